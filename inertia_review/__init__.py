@@ -1,0 +1,33 @@
+"""inertia_review: review the inertia, isotropy and torque headroom of robot-arm designs.
+
+Core (arm-model.md): ``load_design``, ``save_design``, ``Arm`` and the metric
+functions, which broadcast over leading axes of joint angles ``q`` (..., n) [rad].
+SI units inside; degrees only in design files and on screen.
+"""
+
+from ._api import (acceleration_along, acceleration_capability, apparent_mass, evaluate_metrics,
+                   isotropy_index, manipulability, mass_along, mass_ratio, near_singular,
+                   principal_masses, torque_headroom)
+from ._arm import Arm
+from ._builders import planar_chain, yaw_pitch_pitch_arm
+from ._design import STANDARD_GRAVITY
+from ._design_io import load_design, save_design
+from ._errors import DesignError
+from ._materials import MATERIAL_SOURCES, MATERIALS, TubeProperties, tube_properties
+from ._metrics import PrincipalMasses, TorqueHeadroom
+
+__version__ = "0.1.0"
+
+__all__ = [
+    # design model and files
+    "Arm", "load_design", "save_design", "DesignError",
+    # builders and link sizing
+    "planar_chain", "yaw_pitch_pitch_arm", "tube_properties", "TubeProperties",
+    "MATERIALS", "MATERIAL_SOURCES",
+    # metrics
+    "apparent_mass", "principal_masses", "mass_ratio", "mass_along", "isotropy_index",
+    "near_singular", "manipulability", "torque_headroom", "acceleration_capability",
+    "acceleration_along", "evaluate_metrics",
+    # result types and constants
+    "PrincipalMasses", "TorqueHeadroom", "STANDARD_GRAVITY",
+]

@@ -145,8 +145,10 @@ def _normalise_joint(problems, joint, index):
         if norm == 0.0:
             problems.add(join(path, "axis"), "must be a non-zero vector; got [0, 0, 0]")
             axis = None
-        else:
+        elif abs(norm - 1.0) > 1e-14:  # leave unit axes untouched, so that saving round-trips
             axis = [a / norm for a in axis]
+        else:
+            axis = list(axis)
     out["axis"] = axis
     limits = get_vector(problems, joint, "limits_deg", path, 2, default=(-180.0, 180.0))
     if limits is not None and not limits[0] < limits[1]:

@@ -1,0 +1,24 @@
+"""Cautions shown beside every torque, acceleration or contact-speed result (private).
+
+Phrased generally (not quoted from any standard); see DEVELOPERS.md before changing.
+"""
+
+__all__ = ["TORQUE_CAUTION", "CONTACT_CAUTION"]
+
+TORQUE_CAUTION = (
+    "CAUTION: torque margins and acceleration capabilities are design-stage estimates from an "
+    "idealised rigid-body model (no friction, compliance, motor thermal limits or control), not a "
+    "validation. Inputs (masses, centres of mass, inertias, local g) carry uncertainty: treat small "
+    "margins as not acceptable. Static margins do not show safe behaviour on loss of power or brake "
+    "failure. The applicable standards (ISO 12100, ISO 10218-1/-2), local regulations and "
+    "qualified, licensed engineering practice decide."
+)
+
+CONTACT_CAUTION = (
+    "CAUTION: permissible contact speeds are design-stage estimates from the transient-contact "
+    "model of ISO/TS 15066:2016 Annex A (informative), using the arm's rigid-body apparent mass. "
+    "They are not a validation: contact forces and pressures must be measured on the finished "
+    "application (ISO/PAS 5672), after a risk assessment per ISO 12100 and ISO 10218-2. No "
+    "transient contact with the skull, forehead or face is permitted. Local regulations and "
+    "qualified, licensed practice decide."
+)

@@ -1,0 +1,72 @@
+"""The ``inertia-review`` command line (private)."""
+
+import argparse
+import sys
+
+from ._design_io import load_design
+from ._errors import DesignError
+from ._summary import format_summary_table, joint_range_summary
+
+__all__ = ["main"]
+
+
+def _cmd_summary(args):
+    rows = []
+    failed = False
+    for path in args.designs:
+        try:
+            arm = load_design(path)
+        except DesignError as exc:
+            print(f"{path}: {exc}", file=sys.stderr)
+            failed = True
+            continue
+        rows.append(joint_range_summary(arm, samples=args.samples, accel_mps2=args.accel,
+                                        random_state=args.seed))
+    if rows:
+        print(f"Joint-range review summary ({args.samples} configurations per design, uniform in "
+              f"the joint limits; required tool acceleration {args.accel:g} m/s^2 in any task "
+              "direction; means are joint-space means)\n")
+        print(format_summary_table(rows))
+    return 1 if failed else 0
+
+
+def _cmd_check(args):
+    status = 0
+    for path in args.designs:
+        try:
+            arm = load_design(path)
+        except DesignError as exc:
+            print(f"{path}: {exc}")
+            status = 1
+            continue
+        rated = sum(1 for t in arm.peak_torque if t == t)
+        print(f"{path}: OK - design '{arm.name}', {arm.dof} joints ({', '.join(arm.joint_names)}), "
+              f"moving mass {arm.moving_mass:.3f} kg, {rated} of {arm.dof} joints rated, "
+              f"task axes {arm.task_axes.shape[0]}")
+    return status
+
+
+def build_parser():
+    parser = argparse.ArgumentParser(prog="inertia-review", description=(
+        "Review robot-arm designs: apparent tool mass, isotropy and torque headroom."))
+    sub = parser.add_subparsers(dest="command", required=True)
+    summary = sub.add_parser("summary", help="joint-range review summary of design files")
+    summary.add_argument("designs", nargs="+", help="design files (TOML)")
+    summary.add_argument("--samples", type=int, default=20000, help="configurations per design")
+    summary.add_argument("--accel", type=float, default=2.0,
+                         help="required tool acceleration in any task direction [m/s^2]")
+    summary.add_argument("--seed", type=int, default=0, help="sampling seed")
+    summary.set_defaults(func=_cmd_summary)
+    check = sub.add_parser("check", help="validate design files and print their errors or a summary")
+    check.add_argument("designs", nargs="+", help="design files (TOML)")
+    check.set_defaults(func=_cmd_check)
+    return parser
+
+
+def main(argv=None):
+    args = build_parser().parse_args(argv)
+    return args.func(args)
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -9,6 +9,7 @@ arm-model.md: nothing raises; unbounded masses are ``inf``.
 import numpy as np
 
 from . import _metrics
+from ._layout import from_core, to_core
 from ._validate import check_unit_in_span
 
 __all__ = ["apparent_mass", "principal_masses", "mass_ratio", "mass_along", "isotropy_index",
@@ -16,8 +17,15 @@ __all__ = ["apparent_mass", "principal_masses", "mass_ratio", "mass_along", "iso
            "acceleration_along", "evaluate_metrics"]
 
 
-def _terms(arm, q):
-    return _metrics.task_terms(arm._params, arm._q(q))
+def _terms(arm, q, u=None):
+    """Shared core terms, the batch shape and (with ``u``) task coordinates (k, N)."""
+    q = arm._q(q)
+    if u is None:
+        (qc,), batch = to_core(q)
+        return _metrics.task_terms(arm._params, qc), batch
+    w = check_unit_in_span(u, arm._params.task_axes)
+    (qc, wc), batch = to_core(q, w)
+    return _metrics.task_terms(arm._params, qc), batch, wc
 
 
 def apparent_mass(arm, q):
@@ -34,7 +42,8 @@ def apparent_mass(arm, q):
        manipulators: the operational space formulation", IEEE J. Robotics and
        Automation RA-3(1), 1987 (eq. 18; eqs. 51-52 for redundant arms).
     """
-    return _metrics.apparent_mass(arm._params, _terms(arm, q))
+    terms, batch = _terms(arm, q)
+    return from_core(_metrics.apparent_mass(arm._params, terms), batch)
 
 
 def principal_masses(arm, q):
@@ -48,7 +57,9 @@ def principal_masses(arm, q):
         The axes of the generalized inertia ellipsoid x^T Lambda x = 1 (Asada 1983) have
         semi-axes 1 / sqrt(mass).
     """
-    return _metrics.principal_masses(arm._params, _terms(arm, q))
+    terms, batch = _terms(arm, q)
+    masses, directions = _metrics.principal_masses(arm._params, terms)
+    return _metrics.PrincipalMasses(from_core(masses, batch), from_core(directions, batch))
 
 
 def mass_ratio(arm, q):
@@ -56,7 +67,8 @@ def mass_ratio(arm, q):
 
     1 means the tool feels equally heavy in every task direction.
     """
-    return _metrics.mass_ratio(arm._params, _terms(arm, q))
+    terms, batch = _terms(arm, q)
+    return from_core(_metrics.mass_ratio(arm._params, terms), batch)
 
 
 def mass_along(arm, q, u):
@@ -66,9 +78,8 @@ def mass_along(arm, q, u):
     orientation free. ``u`` must be unit and lie in the task span (within 1e-9), else
     ValueError; ``inf`` where the mass along ``u`` is unbounded.
     """
-    arm_params = arm._params
-    w = check_unit_in_span(u, arm_params.task_axes)
-    return _metrics.mass_along(arm_params, _terms(arm, q), w)
+    terms, batch, w = _terms(arm, q, u)
+    return from_core(_metrics.mass_along(arm._params, terms, w), batch)
 
 
 def isotropy_index(arm, q):
@@ -77,7 +88,8 @@ def isotropy_index(arm, q):
     The inverse 2-norm condition number of the Jacobian, proposed as a measure of
     kinematic quality by Salisbury & Craig, IJRR 1(1):4-17, 1982 (1 = isotropic).
     """
-    return _metrics.isotropy_index(arm._params, _terms(arm, q))
+    terms, batch = _terms(arm, q)
+    return from_core(_metrics.isotropy_index(arm._params, terms), batch)
 
 
 def near_singular(arm, q, threshold=0.01):
@@ -91,7 +103,8 @@ def manipulability(arm, q):
     Units m^k per rad^k. For a planar two-link arm l1 l2 |sin q2| (T. Yoshikawa,
     "Manipulability of robotic mechanisms", IJRR 4(2):3-9, 1985). 0 where n < k.
     """
-    return _metrics.manipulability(arm._params, _terms(arm, q))
+    terms, batch = _terms(arm, q)
+    return from_core(_metrics.manipulability(arm._params, terms), batch)
 
 
 def _require_ratings(arm):
@@ -126,7 +139,9 @@ def torque_headroom(arm, q, accel_mps2=0.0):
     if not np.isfinite(accel) or accel < 0.0:
         raise ValueError(f"`accel_mps2` must be a finite number >= 0 [m/s^2]; got {accel_mps2!r}")
     _require_ratings(arm)
-    return _metrics.torque_headroom(arm._params, _terms(arm, q), accel)
+    terms, batch = _terms(arm, q)
+    head = _metrics.torque_headroom(arm._params, terms, accel)
+    return _metrics.TorqueHeadroom(*(from_core(x, batch) for x in head[:-1]), accel)
 
 
 def acceleration_capability(arm, q):
@@ -138,7 +153,8 @@ def acceleration_capability(arm, q):
     Yoshikawa's dynamic manipulability (ICRA 1985).
     """
     _require_ratings(arm)
-    return _metrics.acceleration_capability(arm._params, _terms(arm, q))
+    terms, batch = _terms(arm, q)
+    return from_core(_metrics.acceleration_capability(arm._params, terms), batch)
 
 
 def acceleration_along(arm, q, u, hold_gravity=True):
@@ -149,8 +165,8 @@ def acceleration_along(arm, q, u, hold_gravity=True):
     joint cannot hold gravity or ``u`` has a part along an unbounded-mass direction.
     """
     _require_ratings(arm)
-    w = check_unit_in_span(u, arm._params.task_axes)
-    return _metrics.acceleration_along(arm._params, _terms(arm, q), w, bool(hold_gravity))
+    terms, batch, w = _terms(arm, q, u)
+    return from_core(_metrics.acceleration_along(arm._params, terms, w, bool(hold_gravity)), batch)
 
 
 def evaluate_metrics(arm, q, accel_mps2=0.0):
@@ -163,16 +179,15 @@ def evaluate_metrics(arm, q, accel_mps2=0.0):
     ``limiting_joint`` and ``accel_capability_mps2``.
     """
     p = arm._params
-    terms = _terms(arm, q)
+    terms, batch = _terms(arm, q)
     out = {
-        "tool_position_m": terms.frames.tool + p.mount_position,
+        "tool_position_m": terms.frames.tool + p.mount_position[:, None],
         "isotropy": _metrics.isotropy_index(p, terms),
         "mass_ratio": _metrics.mass_ratio(p, terms),
         "manipulability": _metrics.manipulability(p, terms),
         "singular": terms.singular,
     }
-    pm = _metrics.principal_masses(p, terms)
-    out["principal_masses_kg"], out["principal_directions"] = pm.masses, pm.directions
+    out["principal_masses_kg"], out["principal_directions"] = _metrics.principal_masses(p, terms)
     if np.any(np.isfinite(p.peak_torque)):
         head = _metrics.torque_headroom(p, terms, float(accel_mps2))
         out["static_torque_Nm"] = head.static_torque_Nm
@@ -180,4 +195,4 @@ def evaluate_metrics(arm, q, accel_mps2=0.0):
         out["min_margin"] = head.min_margin
         out["limiting_joint"] = head.limiting_joint
         out["accel_capability_mps2"] = _metrics.acceleration_capability(p, terms)
-    return out
+    return {key: from_core(value, batch) for key, value in out.items()}

@@ -7,6 +7,7 @@ import numpy as np
 from . import _dynamics, _kinematics
 from ._design import normalise_design
 from ._errors import DesignError
+from ._layout import from_core, to_core
 from ._params import build_params
 from ._validate import check_q
 
@@ -18,8 +19,8 @@ _CHECK_SEED = 20261202
 def _check_mass_matrix(params, spec):
     """Raise DesignError naming the joint if M(q) is singular at every sampled q."""
     rng = np.random.default_rng(_CHECK_SEED)
-    q = rng.uniform(-np.pi, np.pi, size=(4, params.n))
-    mass = _dynamics.mass_matrix(params, _kinematics.forward(params, q))
+    q = rng.uniform(-np.pi, np.pi, size=(params.n, 4))
+    mass = np.moveaxis(_dynamics.mass_matrix(params, _kinematics.forward(params, q)), -1, 0)
     eig = np.linalg.eigvalsh(mass)
     scale = np.maximum(eig[:, -1], 1e-300)
     if not np.all(eig[:, 0] <= 1e-12 * scale):
@@ -130,45 +131,54 @@ class Arm:
     def _q(self, q, name="q"):
         return check_q(q, self._params.n, self.name, name)
 
+    def _frames(self, q):
+        (qc,), batch = to_core(self._q(q))
+        return _kinematics.forward(self._params, qc), batch
+
     def tool_position(self, q):
         """Tool point in W, (..., 3) [m]."""
-        p = self._params
-        return _kinematics.tool_position(p, _kinematics.forward(p, self._q(q)))
+        frames, batch = self._frames(q)
+        return from_core(frames.tool + self._params.mount_position[:, None], batch)
 
     def link_frames(self, q):
         """Joint origins in W (..., n, 3) [m] and link rotations (..., n, 3, 3), for drawing."""
-        p = self._params
-        frames = _kinematics.forward(p, self._q(q))
-        return frames.origin + p.mount_position, frames.rotation
+        frames, batch = self._frames(q)
+        origin = frames.origin + self._params.mount_position[:, None]
+        return from_core(origin, batch), from_core(frames.rotation, batch)
 
     def jacobian(self, q):
         """Tool-point Jacobian (..., 6, n): rows 0-2 linear velocity [m/s per rad/s] in W,
         rows 3-5 the last link's angular velocity in W."""
-        return _kinematics.jacobian(_kinematics.forward(self._params, self._q(q)))
+        frames, batch = self._frames(q)
+        return from_core(_kinematics.jacobian(frames), batch)
 
     def mass_matrix(self, q):
         """Joint-space mass matrix (..., n, n) [kg m^2], payload and reflected rotor
         inertia included."""
-        p = self._params
-        return _dynamics.mass_matrix(p, _kinematics.forward(p, self._q(q)))
+        frames, batch = self._frames(q)
+        return from_core(_dynamics.mass_matrix(self._params, frames), batch)
 
     def gravity_torque(self, q):
         """Joint torques that hold the arm still, (..., n) [N m]."""
-        p = self._params
-        return _dynamics.gravity_torque(p, _kinematics.forward(p, self._q(q)))
+        frames, batch = self._frames(q)
+        return from_core(_dynamics.gravity_torque(self._params, frames), batch)
 
     def velocity_torque(self, q, qd):
-        """Coriolis and centrifugal torques C(q, qd) qd, (..., n) [N m]; qd in [rad/s]."""
-        p = self._params
-        q, qd = self._q(q), self._q(qd, "qd")
-        frames = _kinematics.forward(p, q)
-        return _dynamics.inverse_dynamics(p, frames, qd, np.zeros_like(qd), gravity=False)
+        """Coriolis and centrifugal torques C(q, qd) qd, (..., n) [N m]; qd in [rad/s].
+
+        q and qd broadcast over leading axes.
+        """
+        (qc, qdc), batch = to_core(self._q(q), self._q(qd, "qd"))
+        frames = _kinematics.forward(self._params, qc)
+        tau = _dynamics.inverse_dynamics(self._params, frames, qdc, np.zeros_like(qdc),
+                                         gravity=False)
+        return from_core(tau, batch)
 
     def inverse_dynamics(self, q, qd, qdd):
         """Joint torques M qdd + C(q, qd) qd + g(q), (..., n) [N m].
 
         qd [rad/s] and qdd [rad/s^2] broadcast with q over leading axes.
         """
-        p = self._params
-        q, qd, qdd = self._q(q), self._q(qd, "qd"), self._q(qdd, "qdd")
-        return _dynamics.inverse_dynamics(p, _kinematics.forward(p, q), qd, qdd, gravity=True)
+        (qc, qdc, qddc), batch = to_core(self._q(q), self._q(qd, "qd"), self._q(qdd, "qdd"))
+        frames = _kinematics.forward(self._params, qc)
+        return from_core(_dynamics.inverse_dynamics(self._params, frames, qdc, qddc), batch)

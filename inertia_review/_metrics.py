@@ -1,7 +1,8 @@
-"""Inertia and capability metrics over batches of configurations (private).
+"""Inertia and capability metric kernels in the batch-last layout (private).
 
-All functions take ``ArmParams`` and float64 ``q`` (..., n) that the public layer
-has checked, and share one pass through the core (:func:`task_terms`).
+Every kernel takes ``ArmParams`` and the shared :class:`TaskTerms` of N
+configurations (batch on the last axis) and returns batch-last arrays; the public
+layer (``_api``) converts to and from the user's (..., n) shapes.
 """
 
 from typing import NamedTuple
@@ -9,6 +10,7 @@ from typing import NamedTuple
 import numpy as np
 
 from . import _dynamics, _kinematics
+from ._smallmat import cholesky_forward, sym_eig
 
 __all__ = ["TaskTerms", "task_terms", "PrincipalMasses", "TorqueHeadroom", "SINGULAR_RTOL"]
 
@@ -38,150 +40,168 @@ class TorqueHeadroom(NamedTuple):
 
 
 class TaskTerms(NamedTuple):
+    """Shared intermediates for N configurations (batch last)."""
+
     frames: _kinematics.Frames
-    jacobian: np.ndarray       # (..., 6, n)
-    mass: np.ndarray           # (..., n, n)
-    task_jacobian: np.ndarray  # (..., k, n)  A J_v
-    minv_jt: np.ndarray        # (..., n, k)  M^-1 (A J_v)^T
-    mobility: np.ndarray       # (..., k, k)  A J_v M^-1 J_v^T A^T
-    eigvals: np.ndarray        # (..., k) ascending eigenvalues of the mobility matrix
-    eigvecs: np.ndarray        # (..., k, k) columns
-    singular: np.ndarray       # (...,) bool
+    jacobian: np.ndarray       # (6, n, N)
+    mass: np.ndarray           # (n, n, N)
+    task_jacobian: np.ndarray  # (k, n, N)  J_t = A J_v
+    mobility: np.ndarray       # (k, k, N)  J_t M^-1 J_t^T
+    eigvals: np.ndarray        # (k, N) ascending eigenvalues of the mobility matrix
+    eigvecs: np.ndarray        # (k, k, N) unit eigenvector columns (task coordinates)
+    singular: np.ndarray       # (N,) bool
 
 
 def task_terms(params, q):
-    """The shared intermediate results of the task-space metrics for ``q`` (..., n)."""
+    """The shared intermediate results of the task-space metrics for ``q`` (n, N)."""
     frames = _kinematics.forward(params, q)
     jac = _kinematics.jacobian(frames)
     mass = _dynamics.mass_matrix(params, frames)
-    jt = params.task_axes @ jac[..., :3, :]
-    minv_jt = np.linalg.solve(mass, np.swapaxes(jt, -1, -2))
-    mobility = jt @ minv_jt
-    mobility = 0.5 * (mobility + np.swapaxes(mobility, -1, -2))
-    eigvals, eigvecs = np.linalg.eigh(mobility)
+    jt = np.einsum("ki,inN->knN", params.task_axes, jac[:3])
+    y, pivots = cholesky_forward(mass, np.swapaxes(jt, 0, 1))     # (n, k, N)
+    mass_singular = ~np.all(pivots > 0.0, axis=0)                  # M itself singular at q
+    y = np.where(mass_singular, 0.0, y)
+    mobility = np.einsum("ikN,ilN->klN", y, y)
+    eigvals, eigvecs = sym_eig(mobility)
     k = params.task_axes.shape[0]
-    singular = eigvals[..., 0] <= SINGULAR_RTOL * eigvals[..., -1]
+    singular = (eigvals[0] <= SINGULAR_RTOL * eigvals[-1]) | mass_singular
     if params.n < k:
         singular = np.ones_like(singular)
-    return TaskTerms(frames, jac, mass, jt, minv_jt, mobility, eigvals, eigvecs, singular)
+    return TaskTerms(frames, jac, mass, jt, mobility, eigvals, eigvecs, singular)
 
 
-def _unbounded(terms):
-    """(..., k) mask of mobility eigen-directions along which the apparent mass is unbounded."""
-    return terms.eigvals <= SINGULAR_RTOL * terms.eigvals[..., -1:]
+def _unbounded(params, terms):
+    """(k, N) mask of mobility eigen-directions along which the apparent mass is unbounded."""
+    vals = terms.eigvals
+    k = vals.shape[0]
+    unbounded = vals <= SINGULAR_RTOL * vals[-1]
+    if params.n < k:  # rank at most n: the k - n smallest eigenvalues vanish
+        unbounded = unbounded | (np.arange(k) < k - params.n)[:, None]
+    return unbounded
+
+
+def _inverse_on_bounded(params, terms):
+    """1 / eigenvalue on bounded directions, 0 on unbounded ones, (k, N)."""
+    unbounded = _unbounded(params, terms)
+    return np.where(unbounded, 0.0, 1.0 / np.where(unbounded, 1.0, terms.eigvals)), unbounded
 
 
 def apparent_mass(params, terms):
-    unbounded = _unbounded(terms)
-    inv = np.where(unbounded, 0.0, 1.0 / np.where(unbounded, 1.0, terms.eigvals))
+    """Lambda (k, k, N) [kg]; NaN in every entry where singular."""
+    inv, _ = _inverse_on_bounded(params, terms)
     vec = terms.eigvecs
-    lam = (vec * inv[..., None, :]) @ np.swapaxes(vec, -1, -2)
-    return np.where(terms.singular[..., None, None], np.nan, lam)
+    lam = np.einsum("ikN,kN,jkN->ijN", vec, inv, vec)
+    return np.where(terms.singular, np.nan, lam)
 
 
 def principal_masses(params, terms):
-    unbounded = _unbounded(terms)
-    k = terms.eigvals.shape[-1]
-    if params.n < k:  # rank at most n: the k - n smallest eigenvalues vanish
-        unbounded = unbounded | (np.arange(k) < k - params.n)
+    """masses (k, N) ascending [kg] (inf where unbounded), directions (3, k, N) in W."""
+    inv, unbounded = _inverse_on_bounded(params, terms)
     masses = np.where(unbounded, np.inf, 1.0 / np.where(unbounded, 1.0, terms.eigvals))
-    directions = params.task_axes.T @ terms.eigvecs            # (..., 3, k)
-    return PrincipalMasses(masses[..., ::-1], directions[..., ::-1])
+    directions = np.einsum("ki,kjN->ijN", params.task_axes, terms.eigvecs)
+    return masses[::-1], directions[:, ::-1]
 
 
 def mass_ratio(params, terms):
-    ratio = terms.eigvals[..., 0] / terms.eigvals[..., -1]
+    ratio = terms.eigvals[0] / np.where(terms.singular, 1.0, terms.eigvals[-1])
     return np.where(terms.singular, 0.0, ratio)
 
 
+def _task_gram_eigvals(params, terms):
+    jt = terms.task_jacobian
+    vals, _ = sym_eig(np.einsum("inN,jnN->ijN", jt, jt))
+    return np.maximum(vals, 0.0)
+
+
 def isotropy_index(params, terms):
-    k = params.task_axes.shape[0]
-    if params.n < k:
+    """sigma_min / sigma_max of J_t (N,); 0 where singular or n < k."""
+    if params.n < params.task_axes.shape[0]:
         return np.zeros(terms.singular.shape)
-    sv = np.linalg.svd(terms.task_jacobian, compute_uv=False)
-    return np.where(terms.singular, 0.0, sv[..., -1] / sv[..., 0])
+    vals = _task_gram_eigvals(params, terms)
+    ratio = np.sqrt(vals[0] / np.where(vals[-1] > 0.0, vals[-1], 1.0))
+    return np.where(terms.singular, 0.0, ratio)
 
 
 def manipulability(params, terms):
-    k = params.task_axes.shape[0]
-    if params.n < k:
+    """sqrt(det(J_t J_t^T)) (N,); 0 where n < k."""
+    if params.n < params.task_axes.shape[0]:
         return np.zeros(terms.singular.shape)
-    sv = np.linalg.svd(terms.task_jacobian, compute_uv=False)
-    return np.prod(sv, axis=-1)
+    return np.sqrt(np.prod(_task_gram_eigvals(params, terms), axis=0))
 
 
 def mass_along(params, terms, w):
-    """1 / (w^T Y w) with task coordinates w (..., k) of unit world directions."""
-    inv_mass = np.einsum("...i,...ij,...j->...", w, terms.mobility, w)
-    unbounded = inv_mass <= SINGULAR_RTOL * terms.eigvals[..., -1]
+    """1 / (w^T Y w) (N,) for task coordinates w (k, N) of unit world directions."""
+    inv_mass = np.einsum("iN,ijN,jN->N", w, terms.mobility, w)
+    unbounded = inv_mass <= SINGULAR_RTOL * terms.eigvals[-1]
     return np.where(unbounded, np.inf, 1.0 / np.where(unbounded, 1.0, inv_mass))
 
 
-def _force_map(terms):
-    """J_t^T Lambda (..., n, k) on the bounded eigen-directions, and the unbounded mask (..., k)."""
-    unbounded = _unbounded(terms)
-    inv = np.where(unbounded, 0.0, 1.0 / np.where(unbounded, 1.0, terms.eigvals))
+def _force_map(params, terms):
+    """J_t^T Lambda (n, k, N) on the bounded eigen-directions, and the unbounded mask (k, N)."""
+    inv, unbounded = _inverse_on_bounded(params, terms)
     vec = terms.eigvecs
-    lam_bounded = (vec * inv[..., None, :]) @ np.swapaxes(vec, -1, -2)
-    return np.swapaxes(terms.task_jacobian, -1, -2) @ lam_bounded, unbounded
+    lam_bounded = np.einsum("ikN,kN,jkN->ijN", vec, inv, vec)
+    return np.einsum("inN,ijN->njN", terms.task_jacobian, lam_bounded), unbounded
 
 
-def _dynamic_row_norms(terms):
-    """||row_j(J_t^T Lambda)|| (..., n): the worst joint-j torque per unit tool acceleration."""
-    fmap, _ = _force_map(terms)
-    norms = np.linalg.norm(fmap, axis=-1)
-    return np.where(terms.singular[..., None], np.inf, norms)
+def _dynamic_row_norms(params, terms):
+    """||row_j(J_t^T Lambda)|| (n, N): the worst joint-j torque per unit tool acceleration."""
+    fmap, _ = _force_map(params, terms)
+    norms = np.sqrt(np.sum(fmap * fmap, axis=1))
+    return np.where(terms.singular, np.inf, norms)
 
 
 def torque_headroom(params, terms, accel_mps2):
-    gravity = _dynamics.gravity_torque(params, terms.frames)
-    static = np.abs(gravity)
-    rated = np.isfinite(params.peak_torque)
+    """TorqueHeadroom with batch-last arrays ((n, N) per joint, (N,) summaries)."""
+    static = np.abs(_dynamics.gravity_torque(params, terms.frames))
+    rated = np.isfinite(params.peak_torque)[:, None]
     if accel_mps2 > 0.0:
-        worst = static + accel_mps2 * _dynamic_row_norms(terms)
+        worst = static + accel_mps2 * _dynamic_row_norms(params, terms)
     else:
         worst = static.copy()
     nan = np.where(rated, 1.0, np.nan)
-    utilisation = worst / params.peak_torque
-    static_util = static / params.continuous_torque
-    headroom = (params.peak_torque - worst) * nan
+    peak = params.peak_torque[:, None]
+    utilisation = worst / peak
+    static_util = static / params.continuous_torque[:, None]
+    headroom = (peak - worst) * nan
     margin = np.where(rated, 1.0 - utilisation, np.inf)
-    limiting = np.argmin(margin, axis=-1)
-    min_margin = np.take_along_axis(margin, limiting[..., None], axis=-1)[..., 0]
+    limiting = np.argmin(margin, axis=0)
+    min_margin = np.take_along_axis(margin, limiting[None], axis=0)[0]
     return TorqueHeadroom(static, worst, utilisation * nan, static_util * nan, headroom,
                           min_margin, limiting, float(accel_mps2))
 
 
 def acceleration_capability(params, terms):
+    """min over task directions of the reachable tool acceleration (N,) [m/s^2]."""
     gravity = _dynamics.gravity_torque(params, terms.frames)
-    rated = np.isfinite(params.peak_torque)
-    spare = params.peak_torque - np.abs(gravity)             # (..., n)
-    norms = _dynamic_row_norms(terms)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        per_joint = np.where(norms > 0.0, spare / np.where(norms > 0.0, norms, 1.0), np.inf)
+    rated = np.isfinite(params.peak_torque)[:, None]
+    spare = params.peak_torque[:, None] - np.abs(gravity)       # (n, N)
+    norms = _dynamic_row_norms(params, terms)
+    positive = norms > 0.0
+    per_joint = np.where(positive, spare / np.where(positive, norms, 1.0), np.inf)
     per_joint = np.where(np.isinf(norms), 0.0, per_joint)
     per_joint = np.where(spare < 0.0, 0.0, per_joint)
     per_joint = np.where(rated, per_joint, np.inf)
-    return np.maximum(np.min(per_joint, axis=-1), 0.0)
+    return np.maximum(np.min(per_joint, axis=0), 0.0)
 
 
 def acceleration_along(params, terms, w, hold_gravity):
+    """Reachable tool acceleration (N,) [m/s^2] along task coordinates w (k, N)."""
+    count = terms.singular.shape[0]
     if hold_gravity:
         gravity = _dynamics.gravity_torque(params, terms.frames)
     else:
-        gravity = np.zeros(terms.singular.shape + (params.n,))
-    fmap, unbounded = _force_map(terms)
-    d = np.einsum("...jk,...k->...j", fmap, w)               # torque per unit acceleration
-    # any component of w along an unbounded eigen-direction cannot be accelerated
-    blocked = np.any(unbounded & (np.abs(np.einsum("...ki,...k->...i", terms.eigvecs, w)) > 1e-9),
-                     axis=-1)
-    peak = params.peak_torque
-    with np.errstate(divide="ignore", invalid="ignore"):
-        up = (peak - gravity) / d
-        down = (-peak - gravity) / d
-    limit = np.where(d > 0.0, up, np.where(d < 0.0, down, np.inf))
-    holds = np.abs(gravity) <= peak
-    limit = np.where(holds, limit, 0.0)
+        gravity = np.zeros((params.n, count))
+    fmap, unbounded = _force_map(params, terms)
+    d = np.einsum("nkN,kN->nN", fmap, w)                       # torque per unit acceleration
+    # a part of w along an unbounded-mass direction cannot be accelerated at all
+    along = np.abs(np.einsum("kiN,kN->iN", terms.eigvecs, w))
+    blocked = np.any(unbounded & (along > 1e-9), axis=0)
+    peak = params.peak_torque[:, None]
+    safe_d = np.where(d != 0.0, d, 1.0)
+    limit = np.where(d > 0.0, (peak - gravity) / safe_d,
+                     np.where(d < 0.0, (-peak - gravity) / safe_d, np.inf))
+    limit = np.where(np.abs(gravity) <= peak, limit, 0.0)
     limit = np.where(np.isfinite(peak), limit, np.inf)
-    best = np.maximum(np.min(limit, axis=-1), 0.0)
+    best = np.maximum(np.min(limit, axis=0), 0.0)
     return np.where(blocked, 0.0, best)

@@ -50,12 +50,12 @@ def joint_range_summary(arm, *, samples=20000, accel_mps2=0.0, random_state=0):
     params = arm._params
     rng = np.random.default_rng(random_state)
     low, high = params.limits[:, 0], params.limits[:, 1]
-    q = low + (high - low) * rng.random((int(samples), params.n))
+    q = (low + (high - low) * rng.random((int(samples), params.n))).T.copy()
     terms = _metrics.task_terms(params, q)
     iso = _metrics.isotropy_index(params, terms)
     ratio = _metrics.mass_ratio(params, terms)
-    shoulder = terms.frames.origin[..., 0, :]
-    reach = float(np.max(np.linalg.norm(terms.frames.tool - shoulder, axis=-1)))
+    shoulder = terms.frames.origin[0]
+    reach = float(np.max(np.linalg.norm(terms.frames.tool - shoulder, axis=0)))
     ok = iso >= NEAR_SINGULAR
     row = {
         "name": arm.name, "samples": int(samples),

@@ -8,14 +8,18 @@ Arrays carry the batch on their last axis.
 import numpy as np
 
 from ._kinematics import world_inertia
-from ._smallmat import cross, dot
+from ._smallmat import cross, dot, matmul, matvec
 
 __all__ = ["mass_matrix", "gravity_torque", "inverse_dynamics"]
 
 
 def _suffix_sum(x):
     """Sum over links i >= j along axis 0 (composite bodies from link j to the tip)."""
-    return np.cumsum(x[::-1], axis=0)[::-1]
+    out = np.empty_like(x)
+    out[-1] = x[-1]
+    for j in range(x.shape[0] - 2, -1, -1):
+        np.add(out[j + 1], x[j], out=out[j])
+    return out
 
 
 def mass_matrix(params, frames, inertia_world=None):
@@ -39,9 +43,9 @@ def mass_matrix(params, frames, inertia_world=None):
     i_comp = _suffix_sum(inertia_origin)                   # (n, 3, 3, N)
     z = frames.axis
     v = cross(frames.origin, z)
-    f_ang = np.einsum("lijn,ljn->lin", i_comp, z) + cross(h_comp, v)
+    f_ang = matvec(i_comp, z) + cross(h_comp, v)
     f_lin = cross(z, h_comp) + m_comp[:, :, None] * v
-    p = np.einsum("jin,lin->jln", z, f_ang) + np.einsum("jin,lin->jln", v, f_lin)
+    p = matmul(z, np.swapaxes(f_ang, 0, 1)) + matmul(v, np.swapaxes(f_lin, 0, 1))
     upper = np.triu(np.ones((params.n, params.n), dtype=bool))[:, :, None]
     mass = np.where(upper, p, np.swapaxes(p, 0, 1))
     return mass + np.diag(params.rotor_inertia)[:, :, None]
@@ -56,7 +60,8 @@ def gravity_torque(params, frames):
     m_comp = np.cumsum(params.body_mass[::-1])[::-1][:, None, None]
     h_comp = _suffix_sum(m * frames.com)
     moment = cross(frames.axis, h_comp - m_comp * frames.origin)
-    return -np.einsum("lin,i->ln", moment, params.gravity)
+    g = params.gravity
+    return -(moment[:, 0] * g[0] + moment[:, 1] * g[1] + moment[:, 2] * g[2])
 
 
 def inverse_dynamics(params, frames, qd, qdd, gravity=True, inertia_world=None):
@@ -85,8 +90,8 @@ def inverse_dynamics(params, frames, qd, qdd, gravity=True, inertia_world=None):
         inertia = inertia_world[i]
         force = params.body_mass[i] * accel_com
         forces.append(force)
-        moments.append(np.einsum("ijn,jn->in", inertia, alpha)
-                       + cross(omega, np.einsum("ijn,jn->in", inertia, omega))
+        moments.append(matvec(inertia, alpha)
+                       + cross(omega, matvec(inertia, omega))
                        + cross(rc, force))
         o_prev = o[i]
     tau = [None] * n

@@ -52,7 +52,7 @@ def forward(params, q):
                          + const_matmul(base, params.axis_skew2[i]) * (1.0 - c[i]))
     rotation = np.stack(rotations)
     origin = np.stack(origins)
-    com = origin + np.einsum("lijn,lj->lin", rotation, params.body_com)
+    com = origin + sum(rotation[:, :, j, :] * params.body_com[:, None, j, None] for j in range(3))
     tool = origin[-1] + const_matvec(rotation[-1], params.tool_position)
     return Frames(rotation, origin, np.stack(axes), com, tool)
 
@@ -69,4 +69,6 @@ def jacobian(frames):
 def world_inertia(params, frames):
     """Body inertia tensors about their COMs, in W: R I R^T, (n, 3, 3, N)."""
     rot = frames.rotation
-    return np.einsum("lijn,ljk,lmkn->limn", rot, params.body_inertia, rot, optimize=True)
+    inertia = params.body_inertia[:, None, :, :, None]                 # (n, 1, 3, 3, 1)
+    rot_inertia = sum(rot[:, :, j, None, :] * inertia[:, :, j] for j in range(3))
+    return matmul(rot_inertia, np.swapaxes(rot, 1, 2))

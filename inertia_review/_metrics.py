@@ -10,7 +10,7 @@ from typing import NamedTuple
 import numpy as np
 
 from . import _dynamics, _kinematics
-from ._smallmat import cholesky_forward, sym_eig
+from ._smallmat import cholesky_forward, matmul, matvec, sym_eig, transpose
 
 __all__ = ["TaskTerms", "task_terms", "PrincipalMasses", "TorqueHeadroom", "SINGULAR_RTOL"]
 
@@ -61,7 +61,7 @@ def task_terms(params, q):
     y, pivots = cholesky_forward(mass, np.swapaxes(jt, 0, 1))     # (n, k, N)
     mass_singular = ~np.all(pivots > 0.0, axis=0)                  # M itself singular at q
     y = np.where(mass_singular, 0.0, y)
-    mobility = np.einsum("ikN,ilN->klN", y, y)
+    mobility = matmul(transpose(y), y)
     eigvals, eigvecs = sym_eig(mobility)
     k = params.task_axes.shape[0]
     singular = (eigvals[0] <= SINGULAR_RTOL * eigvals[-1]) | mass_singular
@@ -90,7 +90,7 @@ def apparent_mass(params, terms):
     """Lambda (k, k, N) [kg]; NaN in every entry where singular."""
     inv, _ = _inverse_on_bounded(params, terms)
     vec = terms.eigvecs
-    lam = np.einsum("ikN,kN,jkN->ijN", vec, inv, vec)
+    lam = matmul(vec * inv[None], transpose(vec))
     return np.where(terms.singular, np.nan, lam)
 
 
@@ -109,7 +109,7 @@ def mass_ratio(params, terms):
 
 def _task_gram_eigvals(params, terms):
     jt = terms.task_jacobian
-    vals, _ = sym_eig(np.einsum("inN,jnN->ijN", jt, jt))
+    vals, _ = sym_eig(matmul(jt, transpose(jt)))
     return np.maximum(vals, 0.0)
 
 
@@ -131,7 +131,7 @@ def manipulability(params, terms):
 
 def mass_along(params, terms, w):
     """1 / (w^T Y w) (N,) for task coordinates w (k, N) of unit world directions."""
-    inv_mass = np.einsum("iN,ijN,jN->N", w, terms.mobility, w)
+    inv_mass = np.sum(w * matvec(terms.mobility, w), axis=0)
     unbounded = inv_mass <= SINGULAR_RTOL * terms.eigvals[-1]
     return np.where(unbounded, np.inf, 1.0 / np.where(unbounded, 1.0, inv_mass))
 
@@ -140,8 +140,8 @@ def _force_map(params, terms):
     """J_t^T Lambda (n, k, N) on the bounded eigen-directions, and the unbounded mask (k, N)."""
     inv, unbounded = _inverse_on_bounded(params, terms)
     vec = terms.eigvecs
-    lam_bounded = np.einsum("ikN,kN,jkN->ijN", vec, inv, vec)
-    return np.einsum("inN,ijN->njN", terms.task_jacobian, lam_bounded), unbounded
+    lam_bounded = matmul(vec * inv[None], transpose(vec))
+    return matmul(transpose(terms.task_jacobian), lam_bounded), unbounded
 
 
 def _dynamic_row_norms(params, terms):
@@ -193,9 +193,9 @@ def acceleration_along(params, terms, w, hold_gravity):
     else:
         gravity = np.zeros((params.n, count))
     fmap, unbounded = _force_map(params, terms)
-    d = np.einsum("nkN,kN->nN", fmap, w)                       # torque per unit acceleration
+    d = matvec(fmap, w)                       # torque per unit acceleration
     # a part of w along an unbounded-mass direction cannot be accelerated at all
-    along = np.abs(np.einsum("kiN,kN->iN", terms.eigvecs, w))
+    along = np.abs(matvec(transpose(terms.eigvecs), w))
     blocked = np.any(unbounded & (along > 1e-9), axis=0)
     peak = params.peak_torque[:, None]
     safe_d = np.where(d != 0.0, d, 1.0)

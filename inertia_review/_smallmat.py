@@ -13,13 +13,23 @@ __all__ = ["matmul", "matvec", "const_matmul", "const_matvec", "cross", "dot", "
 
 
 def matmul(a, b):
-    """(i, j, N) @ (j, k, N) -> (i, k, N)."""
-    return np.einsum("ijn,jkn->ikn", a, b)
+    """(..., i, j, N) @ (..., j, k, N) -> (..., i, k, N), leading axes broadcast.
+
+    Written as a sum of element-wise products over the (small) contracted axis: for
+    batch-last stacks this is much faster than ``einsum`` or ``matmul``.
+    """
+    out = a[..., :, 0, None, :] * b[..., None, 0, :, :]
+    for j in range(1, a.shape[-2]):
+        out = out + a[..., :, j, None, :] * b[..., None, j, :, :]
+    return out
 
 
 def matvec(a, v):
-    """(i, j, N) @ (j, N) -> (i, N)."""
-    return np.einsum("ijn,jn->in", a, v)
+    """(..., i, j, N) @ (..., j, N) -> (..., i, N), leading axes broadcast."""
+    out = a[..., :, 0, :] * v[..., None, 0, :]
+    for j in range(1, a.shape[-2]):
+        out = out + a[..., :, j, :] * v[..., None, j, :]
+    return out
 
 
 def const_matmul(a, b):

@@ -13,8 +13,15 @@ from ._builders import planar_chain, yaw_pitch_pitch_arm
 from ._design import STANDARD_GRAVITY
 from ._design_io import load_design, save_design
 from ._errors import DesignError
+from ._ik import STATUS, PositionSolution, solve_positions
+from ._map_io import load_results, save_results
+from ._maps import METRIC_ATTRS, metric_map
 from ._materials import MATERIAL_SOURCES, MATERIALS, TubeProperties, tube_properties
 from ._metrics import PrincipalMasses, TorqueHeadroom
+from ._paths import parameter_paths
+from ._regions import Box, PointSet, Rectangle, Task, region_from_dict, task_from_dict
+from ._scores import SCORE_COLUMNS, design_scores, scores_table
+from ._sweeps import Sweep
 
 __version__ = "0.1.0"
 
@@ -28,6 +35,11 @@ __all__ = [
     "apparent_mass", "principal_masses", "mass_ratio", "mass_along", "isotropy_index",
     "near_singular", "manipulability", "torque_headroom", "acceleration_capability",
     "acceleration_along", "evaluate_metrics",
+    # task regions, inverse kinematics, maps, scores and sweeps
+    "Rectangle", "Box", "PointSet", "Task", "region_from_dict", "task_from_dict",
+    "solve_positions", "PositionSolution", "STATUS",
+    "metric_map", "METRIC_ATTRS", "design_scores", "scores_table", "SCORE_COLUMNS",
+    "Sweep", "parameter_paths", "save_results", "load_results",
     # result types and constants
     "PrincipalMasses", "TorqueHeadroom", "STANDARD_GRAVITY",
 ]

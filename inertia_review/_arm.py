@@ -13,6 +13,8 @@ from ._validate import check_q
 
 __all__ = ["Arm"]
 
+_TASK_EXTRAS = ("region", "accel_mps2", "payload_kg", "approach")
+
 _CHECK_SEED = 20261202
 
 
@@ -50,11 +52,12 @@ class Arm:
     the leading axes; a 1-D ``q`` gives unbatched results.
     """
 
-    __slots__ = ("_spec", "_params")
+    __slots__ = ("_spec", "_params", "_task")
 
-    def __init__(self, spec, params):
+    def __init__(self, spec, params, task=None):
         self._spec = spec
         self._params = params
+        self._task = task
 
     @classmethod
     def from_dict(cls, data, *, default_name="unnamed"):
@@ -68,15 +71,32 @@ class Arm:
         spec = normalise_design(data, default_name=default_name)
         params = build_params(spec)
         _check_mass_matrix(params, spec)
-        return cls(spec, params)
+        task = None
+        raw_task = spec.get("task", {})
+        if any(key in raw_task for key in _TASK_EXTRAS):
+            from ._regions import task_from_dict
+            extras = {k: raw_task[k] for k in _TASK_EXTRAS if k in raw_task}
+            task = task_from_dict(extras, default_axes=params.task_axes.tolist(), name=spec["name"])
+            spec["task"] = {**{k: v for k, v in raw_task.items() if k == "axes"}, **task.to_dict()}
+        return cls(spec, params, task)
 
     def to_dict(self):
         """Normalised full form: defaults filled in, axes unit length, angles in degrees."""
         return copy.deepcopy(self._spec)
 
-    def _replace(self, spec):
-        """An arm from a modified normalised spec, re-validated (used by sweeps)."""
-        return type(self).from_dict(spec)
+    def with_values(self, values):
+        """A new arm with design values changed, e.g. ``{"joints[1].link.mass_kg": 1.5}``.
+
+        Keys are parameter paths (see :func:`inertia_review.parameter_paths`); the result is
+        validated like a design file.
+        """
+        from ._paths import apply_values
+        return type(self).from_dict(apply_values(self._spec, values))
+
+    @property
+    def task(self):
+        """The design's task (region, required acceleration, payload, approach), or None."""
+        return self._task
 
     # ----------------------------------------------------------------- properties
     @property

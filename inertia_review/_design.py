@@ -30,7 +30,7 @@ POINT_MASS_KEYS = ("mass_kg", "xyz_m")
 ACTUATOR_KEYS = ("peak_torque_Nm", "continuous_torque_Nm", "gear_ratio", "rotor_inertia_kgm2",
                  "rated_speed_rpm")
 TOOL_KEYS = ("xyz_m", "payload_kg", "payload_inertia_kgm2")
-TASK_KEYS = ("axes",)
+TASK_KEYS = ("axes", "region", "accel_mps2", "payload_kg", "approach")
 
 _ZERO3 = (0.0, 0.0, 0.0)
 _ZERO6 = (0.0,) * 6
@@ -164,8 +164,11 @@ def _normalise_joint(problems, joint, index):
 
 
 def _normalise_task(problems, task, n_hint):
+    """Task axes here; the region, acceleration, payload and approach are checked by
+    ``_regions.task_from_dict`` once the arm's default task axes are known."""
     check_keys(problems, task, TASK_KEYS, "task")
-    out = {}
+    out = {key: task[key] for key in ("region", "accel_mps2", "payload_kg", "approach")
+           if key in task}
     if "axes" in task:
         rows = task["axes"]
         if not isinstance(rows, (list, tuple)) or not 1 <= len(rows) <= 3:

@@ -1,0 +1,185 @@
+"""Metric maps over a task region, as labelled xarray Datasets (private).
+
+One batched pass: the region's points are solved for configurations (``_ik``), then
+every metric is evaluated at once through the shared core terms.
+"""
+
+import numpy as np
+
+from . import _dynamics, _metrics
+from ._cautions import TORQUE_CAUTION
+from ._ik import STATUS, solve_positions
+from ._layout import to_core
+from ._regions import Task
+
+__all__ = ["metric_map", "METRIC_ATTRS"]
+
+#: units and one-line definitions of the map variables (also used for plot labels)
+METRIC_ATTRS = {
+    "isotropy": ("1", "isotropy index", "sigma_min / sigma_max of the task Jacobian A J_v "
+                 "(Salisbury & Craig 1982); 0 at singular configurations"),
+    "mass_ratio": ("1", "min/max apparent mass ratio", "lambda_min / lambda_max of the apparent "
+                   "mass Lambda = (A J_v M^-1 J_v^T A^T)^-1 (Khatib 1987); 0 where singular"),
+    "principal_mass": ("kg", "principal apparent mass", "eigenvalues of Lambda, ascending; inf "
+                       "along unbounded directions"),
+    "principal_direction": ("1", "principal direction", "unit eigenvectors of Lambda in the "
+                            "world frame, one per principal mass"),
+    "mass_along_approach": ("kg", "apparent mass along the approach direction",
+                            "1 / (u^T J_v M^-1 J_v^T u) for the task's approach direction u"),
+    "manipulability": ("m^k", "manipulability", "Yoshikawa (1985): sqrt(det(J_t J_t^T))"),
+    "static_torque": ("N m", "gravity torque", "|g(q)|: the torque that holds the arm and "
+                      "payload still"),
+    "utilisation": ("1", "torque utilisation", "(|g| + a ||row_j(J_t^T Lambda)||) / peak rating: "
+                    "worst case over task directions of the required acceleration a"),
+    "min_margin": ("1", "torque headroom", "min over rated joints of 1 - utilisation; "
+                   "negative: over the peak rating"),
+    "limiting_joint": ("1", "limiting joint", "index of the joint with the least headroom"),
+    "accel_capability": ("m s^-2", "acceleration capability", "largest tool acceleration "
+                         "reachable in every task direction from rest within the peak ratings"),
+    "near_singular": ("1", "near-singular", "isotropy index below 0.01"),
+    "q": ("rad", "joint angles", "configuration solved for the point (NaN where not solved)"),
+    "status": ("1", "solution status", "0 ok; see flag_values / flag_meanings"),
+}
+
+
+def _attrs(name):
+    units, long_name, description = METRIC_ATTRS[name]
+    return {"units": units, "long_name": long_name, "description": description}
+
+
+def metric_map(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
+               posture="elbow_up", reference_deg=None, tool_angle_deg=None, elbow_joint=None,
+               near_singular_threshold=0.01, **solver_options):
+    """Every metric at every point of a task region, as an ``xarray.Dataset``.
+
+    Parameters
+    ----------
+    arm : Arm
+    region : Task or region (Rectangle, Box, PointSet)
+        A :class:`Task` also supplies the required acceleration, payload and approach
+        direction (explicit keywords override it).
+    accel_mps2 : float, optional
+        Required tool acceleration in any task direction [m/s^2] for the headroom (default 0).
+    approach : (3,) world vector, optional
+        Direction for ``mass_along_approach`` (projected into the task span and normalised).
+    payload_kg : float, optional
+        Replaces the design's payload for this map.
+    posture, reference_deg, tool_angle_deg, elbow_joint, **solver_options
+        Passed to :func:`inertia_review.solve_positions`.
+
+    Returns
+    -------
+    xarray.Dataset
+        Dimensions: the region's grid axes (``v_m``, ``u_m`` for a rectangle; ``w_m``,
+        ``v_m``, ``u_m`` for a box; ``point`` for a point list) [m], plus ``joint``,
+        ``principal`` and ``component``; 2-D (or 3-D) coordinates ``x_m``, ``y_m``, ``z_m``.
+        Every variable has ``units``, ``long_name`` and ``description`` attributes; points
+        that could not be solved hold NaN with their reason in ``status``.
+    """
+    import xarray as xr
+
+    task = region if isinstance(region, Task) else None
+    if task is not None:
+        region = task.region
+        accel_mps2 = task.accel_mps2 if accel_mps2 is None else accel_mps2
+        approach = task.approach if approach is None else approach
+        payload_kg = task.payload_kg if payload_kg is None else payload_kg
+    accel = 0.0 if accel_mps2 is None else float(accel_mps2)
+    if not np.isfinite(accel) or accel < 0.0:
+        raise ValueError(f"`accel_mps2` must be a finite number >= 0 [m/s^2]; got {accel_mps2!r}")
+    if payload_kg is not None:
+        arm = arm.with_values({"tool.payload_kg": float(payload_kg)})
+    params = arm._params
+    points, grid = region.sample()
+    shape = points.shape[:-1]
+    solution = solve_positions(arm, points, posture=posture, reference_deg=reference_deg,
+                               tool_angle_deg=tool_angle_deg, elbow_joint=elbow_joint,
+                               **solver_options)
+    ok = solution.status == 0
+    flat_ok = ok.reshape(-1)
+    n, k = params.n, params.task_axes.shape[0]
+    count = int(flat_ok.sum())
+
+    def blank(*trailing, value=np.nan, dtype=float):
+        return np.full((flat_ok.size,) + trailing, value, dtype=dtype)
+
+    values = {
+        "isotropy": blank(), "mass_ratio": blank(), "manipulability": blank(),
+        "principal_mass": blank(k), "principal_direction": blank(3, k),
+        "mass_along_approach": blank(), "near_singular": blank(value=False, dtype=bool),
+    }
+    rated = bool(np.any(np.isfinite(params.peak_torque)))
+    if rated:
+        values.update(static_torque=blank(n), utilisation=blank(n), min_margin=blank(),
+                      limiting_joint=blank(value=-1, dtype=np.int16), accel_capability=blank())
+    if count:
+        (qc,), _ = to_core(solution.q.reshape(-1, n)[flat_ok])
+        terms = _metrics.task_terms(params, qc)
+        iso = _metrics.isotropy_index(params, terms)
+        values["isotropy"][flat_ok] = iso
+        values["near_singular"][flat_ok] = iso < near_singular_threshold
+        values["mass_ratio"][flat_ok] = _metrics.mass_ratio(params, terms)
+        values["manipulability"][flat_ok] = _metrics.manipulability(params, terms)
+        masses, directions = _metrics.principal_masses(params, terms)
+        values["principal_mass"][flat_ok] = masses.T
+        values["principal_direction"][flat_ok] = np.moveaxis(directions, -1, 0)
+        if approach is not None:
+            u = np.asarray(approach, float)
+            w = params.task_axes @ u
+            if np.linalg.norm(w) < 1e-9:
+                raise ValueError(f"approach direction {u.tolist()} has no part in the task span "
+                                 f"{params.task_axes.tolist()}")
+            w = (w / np.linalg.norm(w))[:, None] * np.ones((1, count))
+            values["mass_along_approach"][flat_ok] = _metrics.mass_along(params, terms, w)
+        if rated:
+            head = _metrics.torque_headroom(params, terms, accel)
+            values["static_torque"][flat_ok] = head.static_torque_Nm.T
+            values["utilisation"][flat_ok] = head.utilisation.T
+            values["min_margin"][flat_ok] = head.min_margin
+            values["limiting_joint"][flat_ok] = head.limiting_joint
+            values["accel_capability"][flat_ok] = _metrics.acceleration_capability(params, terms)
+
+    dims = tuple(grid)
+    coords = {name: (name, axis, {"units": "m" if name != "point" else "1"})
+              for name, axis in grid.items()}
+    for i, name in enumerate(("x_m", "y_m", "z_m")):
+        coords[name] = (dims, points[..., i], {"units": "m", "long_name": f"world {name[0]}"})
+    coords["joint"] = ("joint", list(arm.joint_names))
+    coords["principal"] = ("principal", np.arange(k))
+    coords["component"] = ("component", ["x", "y", "z"])
+    extra_dims = {1: ("joint",), 2: ("principal",), 3: ("component", "principal")}
+
+    data_vars = {}
+    for name, arr in values.items():
+        trailing = arr.shape[1:]
+        if name in ("static_torque", "utilisation"):
+            var_dims = dims + ("joint",)
+        elif name == "principal_mass":
+            var_dims = dims + ("principal",)
+        elif name == "principal_direction":
+            var_dims = dims + ("component", "principal")
+        else:
+            var_dims = dims
+        data_vars[name] = (var_dims, arr.reshape(shape + trailing), _attrs(name))
+    data_vars["q"] = (dims + ("joint",), solution.q.reshape(shape + (n,)), _attrs("q"))
+    status_attrs = _attrs("status")
+    status_attrs.update(flag_values=list(STATUS), flag_meanings=" ".join(STATUS.values()))
+    data_vars["status"] = (dims, solution.status.reshape(shape), status_attrs)
+    if approach is None:
+        del data_vars["mass_along_approach"]
+    del extra_dims
+    ds = xr.Dataset(data_vars, coords=coords)
+    ds.attrs.update({
+        "design": arm.name, "region_kind": region.kind,
+        "cell_measure": region.cell_measure,
+        "cell_measure_units": {"rectangle": "m^2", "box": "m^3", "points": "1"}[region.kind],
+        "accel_mps2": accel, "posture": posture, "payload_kg": float(arm.to_dict()["tool"]
+                                                                     ["payload_kg"]),
+        "moving_mass_kg": arm.moving_mass,
+        "gravity_mps2": list(map(float, params.gravity)),
+        "task_axes": params.task_axes.ravel().tolist(),
+        "caution": TORQUE_CAUTION,
+    })
+    if approach is not None:
+        ds.attrs["approach"] = list(map(float, approach))
+    return ds

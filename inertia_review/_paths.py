@@ -1,0 +1,248 @@
+"""Parameter paths: names for design values that sweeps and widgets change (private).
+
+Our own short syntax mirrors the field paths of error messages:
+
+- direct values: ``tool.payload_kg``, ``mount.rpy_deg[1]``, ``joints[1].link.mass_kg``,
+  ``joints[elbow].actuator.gear_ratio`` (a joint by index or by name),
+  ``joints[1].link.point_masses[0].mass_kg``, ``joints[1].link.tube.length_m``;
+- derived values that designers think in:
+  ``joints[j].link_length_m``: the length of link j (to the next joint, or to the tool
+  point for the last link); changing it scales the link's geometry along that direction
+  (next joint or tool offset, centre of mass, point masses, tube length; an explicit
+  mass and inertia stay as given);
+  ``joints[j].link.point_masses[k].along``: where point mass k sits along link j, as a
+  fraction of the link length from its joint;
+  ``derived.reach_m`` and ``derived.link_ratio``: the sum and the ratio (distal over
+  proximal) of the lengths of the last two links.
+"""
+
+import copy
+import re
+
+import numpy as np
+
+from ._errors import DesignError
+
+__all__ = ["apply_values", "get_value", "parameter_paths", "resolve_joint"]
+
+_TOKEN = re.compile(r"([A-Za-z_][A-Za-z0-9_]*)(?:\[([^\]]+)\])?")
+
+
+def resolve_joint(spec, key, path):
+    names = [j["name"] for j in spec["joints"]]
+    if re.fullmatch(r"-?\d+", key):
+        index = int(key)
+        if not -len(names) <= index < len(names):
+            raise KeyError(f"'{path}': joint index {index} is out of range for {len(names)} joints")
+        return index % len(names)
+    if key not in names:
+        import difflib
+        close = difflib.get_close_matches(key, names, n=1)
+        hint = f"; did you mean '{close[0]}'?" if close else f"; joints are {', '.join(names)}"
+        raise KeyError(f"'{path}': no joint named '{key}'{hint}")
+    return names.index(key)
+
+
+def _tokens(path):
+    parts = path.split(".")
+    out = []
+    for part in parts:
+        m = _TOKEN.fullmatch(part)
+        if not m:
+            raise KeyError(f"'{path}': cannot read '{part}' (expected name or name[index])")
+        out.append((m.group(1), m.group(2)))
+    return out
+
+
+def _link_vector(spec, j):
+    joints = spec["joints"]
+    return (joints[j + 1]["xyz_m"] if j + 1 < len(joints) else spec["tool"]["xyz_m"])
+
+
+def _set_link_vector(spec, j, value):
+    joints = spec["joints"]
+    if j + 1 < len(joints):
+        joints[j + 1]["xyz_m"] = value
+    else:
+        spec["tool"]["xyz_m"] = value
+
+
+def _link_length(spec, j):
+    return float(np.linalg.norm(_link_vector(spec, j)))
+
+
+def _scale_link(spec, j, new_length, path):
+    d = np.array(_link_vector(spec, j), float)
+    length = np.linalg.norm(d)
+    if length == 0.0:
+        raise KeyError(f"'{path}': link {j} has zero length, so it has no direction to scale along")
+    if not np.isfinite(new_length) or new_length <= 0.0:
+        raise ValueError(f"'{path}': link length must be > 0 [m]; got {new_length!r}")
+    unit = d / length
+    factor = new_length / length
+
+    def stretch(point):
+        p = np.array(point, float)
+        return list(p + (factor - 1.0) * np.dot(p, unit) * unit)
+
+    _set_link_vector(spec, j, list(unit * new_length))
+    link = spec["joints"][j]["link"]
+    if "tube" in link:
+        link["tube"]["length_m"] = link["tube"]["length_m"] * factor
+    elif link.get("com_m") is not None:
+        link["com_m"] = stretch(link["com_m"])
+    for pm in link["point_masses"]:
+        pm["xyz_m"] = stretch(pm["xyz_m"])
+
+
+def get_value(spec, path):
+    """The current value of a parameter path in a normalised spec."""
+    tokens = _tokens(path)
+    if tokens[0][0] == "derived":
+        a, b = _last_two(spec, path)
+        la, lb = _link_length(spec, a), _link_length(spec, b)
+        name = tokens[1][0] if len(tokens) == 2 else ""
+        if name == "reach_m":
+            return la + lb
+        if name == "link_ratio":
+            return lb / la
+        raise KeyError(f"'{path}': unknown derived value; known: derived.reach_m, derived.link_ratio")
+    if tokens[0][0] == "joints" and len(tokens) == 2 and tokens[1][0] == "link_length_m":
+        return _link_length(spec, resolve_joint(spec, tokens[0][1] or "", path))
+    if (tokens[-1][0] == "along" and len(tokens) == 4 and tokens[2][0] == "point_masses"):
+        j = resolve_joint(spec, tokens[0][1] or "", path)
+        pm = _container(spec, tokens[:-1], path)
+        d = np.array(_link_vector(spec, j), float)
+        return float(np.dot(pm["xyz_m"], d) / np.dot(d, d))
+    parent, key, index = _locate(spec, tokens, path)
+    value = parent[key]
+    return value[index] if index is not None else value
+
+
+def _last_two(spec, path):
+    n = len(spec["joints"])
+    if n < 2:
+        raise KeyError(f"'{path}': derived reach and link ratio need at least two joints")
+    return n - 2, n - 1
+
+
+def _container(spec, tokens, path):
+    node = spec
+    trail = ""
+    for name, index in tokens:
+        trail = f"{trail}.{name}" if trail else name
+        if not isinstance(node, dict) or name not in node:
+            known = ", ".join(sorted(node)) if isinstance(node, dict) else ""
+            raise KeyError(f"'{path}': '{trail}' does not exist in design '{spec['name']}'"
+                           + (f" (known here: {known})" if known else ""))
+        node = node[name]
+        if index is not None:
+            if name == "joints":
+                node = node[resolve_joint(spec, index, path)]
+            else:
+                if not isinstance(node, list) or not re.fullmatch(r"\d+", index) \
+                        or int(index) >= len(node):
+                    raise KeyError(f"'{path}': '{trail}[{index}]' does not exist")
+                node = node[int(index)]
+    return node
+
+
+def _locate(spec, tokens, path):
+    """(parent mapping, key, index within a vector or None) of a direct value."""
+    *head, (name, index) = tokens
+    parent = _container(spec, head, path) if head else spec
+    if not isinstance(parent, dict) or name not in parent:
+        raise KeyError(f"'{path}': '{name}' does not exist in design '{spec['name']}'")
+    value = parent[name]
+    if index is not None:
+        if not isinstance(value, list) or not re.fullmatch(r"\d+", index) or int(index) >= len(value):
+            raise KeyError(f"'{path}': '{name}[{index}]' is not an entry of a vector")
+        if not all(isinstance(v, float) for v in value):
+            raise KeyError(f"'{path}': '{name}' is not a vector of numbers")
+        return parent, name, int(index)
+    if not isinstance(value, float):
+        raise KeyError(f"'{path}': '{name}' is not a number (sweep a number or a vector entry)")
+    return parent, name, None
+
+
+def _set(spec, path, value):
+    tokens = _tokens(path)
+    value = float(value)
+    if tokens[0][0] == "derived":
+        a, b = _last_two(spec, path)
+        name = tokens[1][0] if len(tokens) == 2 else ""
+        la, lb = _link_length(spec, a), _link_length(spec, b)
+        if name == "reach_m":
+            ratio = lb / la
+        elif name == "link_ratio":
+            ratio, value = value, la + lb
+        else:
+            raise KeyError(f"'{path}': unknown derived value; known: derived.reach_m, "
+                           "derived.link_ratio")
+        _scale_link(spec, a, value / (1.0 + ratio), path)
+        _scale_link(spec, b, value * ratio / (1.0 + ratio), path)
+        return
+    if tokens[0][0] == "joints" and len(tokens) == 2 and tokens[1][0] == "link_length_m":
+        _scale_link(spec, resolve_joint(spec, tokens[0][1] or "", path), value, path)
+        return
+    if tokens[-1][0] == "along" and len(tokens) == 4 and tokens[2][0] == "point_masses":
+        j = resolve_joint(spec, tokens[0][1] or "", path)
+        pm = _container(spec, tokens[:-1], path)
+        d = np.array(_link_vector(spec, j), float)
+        p = np.array(pm["xyz_m"], float)
+        unit = d / np.linalg.norm(d)
+        pm["xyz_m"] = list(p - np.dot(p, unit) * unit + value * d)
+        return
+    parent, key, index = _locate(spec, tokens, path)
+    if index is None:
+        parent[key] = value
+    else:
+        parent[key] = list(parent[key])
+        parent[key][index] = value
+
+
+def apply_values(spec, values):
+    """A deep copy of ``spec`` with every ``{path: value}`` applied (derived ones first)."""
+    out = copy.deepcopy(spec)
+    ordered = sorted(values.items(), key=lambda kv: 0 if kv[0].startswith("derived.") else 1)
+    if "derived.reach_m" in values and "derived.link_ratio" in values:
+        reach, ratio = float(values["derived.reach_m"]), float(values["derived.link_ratio"])
+        a, b = _last_two(out, "derived.reach_m")
+        _scale_link(out, a, reach / (1.0 + ratio), "derived.reach_m")
+        _scale_link(out, b, reach * ratio / (1.0 + ratio), "derived.link_ratio")
+        ordered = [kv for kv in ordered if kv[0] not in ("derived.reach_m", "derived.link_ratio")]
+    for path, value in ordered:
+        try:
+            _set(out, path, value)
+        except (KeyError, ValueError) as exc:
+            raise DesignError(spec["name"], [(path, str(exc.args[0]).split(": ", 1)[-1])]) from None
+    return out
+
+
+def parameter_paths(arm):
+    """The numeric parameter paths of an arm, with their current values, as a dict."""
+    spec = arm.to_dict()
+    out = {}
+
+    def walk(node, prefix):
+        if isinstance(node, dict):
+            for key, value in node.items():
+                walk(value, f"{prefix}.{key}" if prefix else key)
+        elif isinstance(node, list) and node and all(isinstance(v, float) for v in node):
+            for i, v in enumerate(node):
+                out[f"{prefix}[{i}]"] = v
+        elif isinstance(node, list):
+            for i, v in enumerate(node):
+                walk(v, f"{prefix}[{i}]")
+        elif isinstance(node, float):
+            out[prefix] = node
+
+    for j, joint in enumerate(spec["joints"]):
+        walk(joint, f"joints[{joint['name']}]")
+        out[f"joints[{joint['name']}].link_length_m"] = _link_length(spec, j)
+    walk(spec["mount"], "mount")
+    walk(spec["tool"], "tool")
+    if len(spec["joints"]) >= 2:
+        out["derived.reach_m"] = get_value(spec, "derived.reach_m")
+        out["derived.link_ratio"] = get_value(spec, "derived.link_ratio")
+    return out

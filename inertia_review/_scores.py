@@ -1,0 +1,76 @@
+"""Design scores: one row per map (private).
+
+Every score is computed from a map Dataset (``metric_map``), so a score can be
+redone by hand from the map's own variables.
+"""
+
+import numpy as np
+
+__all__ = ["design_scores", "scores_table", "SCORE_COLUMNS"]
+
+#: score name -> (units, definition); the order is the table's column order
+SCORE_COLUMNS = {
+    "reachable_fraction": ("1", "share of the region's grid points solved (status ok)"),
+    "gci": ("1", "global conditioning index (Gosselin & Angeles 1991): mean of the isotropy "
+                 "index 1/kappa (2-norm condition number of J_t) over the reachable part of "
+                 "the region, each grid point weighted by its cell area (or volume)"),
+    "isotropy_worst": ("1", "lowest isotropy index over the reachable points"),
+    "isotropy_p5": ("1", "5th percentile of the isotropy index over the reachable points"),
+    "mass_ratio_worst": ("1", "lowest min/max apparent-mass ratio over the reachable points"),
+    "mass_ratio_p5": ("1", "5th percentile of the min/max apparent-mass ratio"),
+    "headroom_worst": ("1", "lowest torque headroom (1 - utilisation) over the reachable points"),
+    "headroom_worst_joint": ("", "joint that limits at the worst headroom point"),
+    "headroom_positive_fraction": ("1", "share of the reachable points with headroom > 0"),
+    "accel_capability_min": ("m s^-2", "lowest acceleration capability over the reachable points"),
+    "moving_mass_kg": ("kg", "total moving mass: links, point masses and payload"),
+}
+
+
+def _percentile(values, q):
+    return float(np.percentile(values, q)) if values.size else np.nan
+
+
+def design_scores(ds):
+    """Scores of one map (a ``metric_map`` Dataset) as a dict (``SCORE_COLUMNS`` keys + design).
+
+    Region means use the region's own measure: every grid point carries the same cell area
+    (rectangle) or volume (box), so the mean over reachable points is the area- (volume-)
+    weighted mean; it is not a joint-space mean. Both choices change the number
+    (Gosselin & Angeles 1991 integrate over the workspace).
+    """
+    ok = (ds["status"].values == 0)
+    iso = ds["isotropy"].values[ok]
+    ratio = ds["mass_ratio"].values[ok]
+    weight = np.full(iso.shape, float(ds.attrs.get("cell_measure", 1.0)))
+    row = {
+        "design": ds.attrs.get("design", ""),
+        "reachable_fraction": float(ok.mean()) if ok.size else 0.0,
+        "gci": float(np.sum(iso * weight) / np.sum(weight)) if iso.size else np.nan,
+        "isotropy_worst": float(iso.min()) if iso.size else np.nan,
+        "isotropy_p5": _percentile(iso, 5),
+        "mass_ratio_worst": float(ratio.min()) if ratio.size else np.nan,
+        "mass_ratio_p5": _percentile(ratio, 5),
+        "headroom_worst": np.nan, "headroom_worst_joint": "not rated",
+        "headroom_positive_fraction": np.nan, "accel_capability_min": np.nan,
+        "moving_mass_kg": float(ds.attrs.get("moving_mass_kg", np.nan)),
+    }
+    if "min_margin" in ds and iso.size:
+        margin = ds["min_margin"].values[ok]
+        worst = int(np.argmin(margin))
+        joint_index = int(ds["limiting_joint"].values[ok][worst])
+        row["headroom_worst"] = float(margin[worst])
+        row["headroom_worst_joint"] = str(ds["joint"].values[joint_index])
+        row["headroom_positive_fraction"] = float(np.mean(margin > 0.0))
+        row["accel_capability_min"] = float(ds["accel_capability"].values[ok].min())
+    return row
+
+
+def scores_table(maps):
+    """A pandas DataFrame of scores, one row per map, indexed by design name."""
+    import pandas as pd
+
+    rows = [design_scores(ds) for ds in maps]
+    frame = pd.DataFrame(rows).set_index("design")
+    frame.attrs["units"] = {k: v[0] for k, v in SCORE_COLUMNS.items()}
+    frame.attrs["definitions"] = {k: v[1] for k, v in SCORE_COLUMNS.items()}
+    return frame[list(SCORE_COLUMNS)]

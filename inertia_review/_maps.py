@@ -180,6 +180,9 @@ def metric_map(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
         "task_axes": params.task_axes.ravel().tolist(),
         "caution": TORQUE_CAUTION,
     })
+    if region.kind in ("rectangle", "box"):
+        ds.attrs["region_center_m"] = list(map(float, region.center_m))
+        ds.attrs["region_axes"] = [float(x) for row in region.axes for x in row]
     if approach is not None:
         ds.attrs["approach"] = list(map(float, approach))
     return ds

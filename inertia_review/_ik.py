@@ -172,7 +172,7 @@ def _dls(params, q, targets, tool_angle=None, *, tolerance, max_iterations, damp
         # minimum of the distance: out of reach from that seed)
         stalled = norm > 0.9 * residual[active]
         residual[active] = np.minimum(norm, residual[active])
-        done = (norm <= tolerance) | (stalled & (norm > 1e3 * tolerance) & (iteration > 8))
+        done = (norm <= tolerance) | (stalled & (norm > 1e3 * tolerance) & (iteration > 5))
         if np.all(done):
             break
         keep = ~done
@@ -280,21 +280,37 @@ def solve_positions(arm, points, *, posture="elbow_up", reference_deg=None, tool
         _, nearest = tree.query(goal.T, k=int(seeds))
         nearest = idx_pool[np.asarray(nearest).reshape(count, -1).T]      # (S, N)
         s_count = nearest.shape[0]
-        seeds_q = table_q[:, nearest.reshape(-1)]                         # (n, S*N)
-        tiled = np.tile(targets, (1, s_count))
         angle = None
         if tool_angle_deg is not None:
             angle = np.broadcast_to(np.deg2rad(np.asarray(tool_angle_deg, float)),
                                     batch).reshape(-1)
-            angle = np.tile(angle, s_count)
-        q_all, res_all, limit_all = _dls(params, seeds_q, tiled, angle, tolerance=tolerance_m,
-                              max_iterations=max_iterations, damping=1e-3 * _reach_bound(params),
-                              reference=reference if n > k else None,
-                              null_gain=0.2 if (n > k and angle is None) else 0.0)
-        candidates = np.moveaxis(q_all.reshape(n, s_count, count), 1, 0)   # (S, n, N)
-        residual = res_all.reshape(s_count, count)
+        candidates = np.full((s_count, n, count), np.nan)
+        residual = np.full((s_count, count), np.inf)
+        limit_all = np.zeros((s_count, count), dtype=bool)
+        todo = np.arange(count)
+        for s in range(s_count):
+            # 'nearest' compares every seed's solution; the branch rules stop at the first
+            # seed whose solution converges in the requested posture
+            idx = np.arange(count) if posture == "nearest" else todo
+            if idx.size == 0:
+                break
+            q_s, r_s, l_s = _dls(params, table_q[:, nearest[s, idx]], targets[:, idx],
+                                 None if angle is None else angle[idx], tolerance=tolerance_m,
+                                 max_iterations=max_iterations,
+                                 damping=1e-3 * _reach_bound(params),
+                                 reference=reference if n > k else None,
+                                 null_gain=0.2 if (n > k and angle is None) else 0.0)
+            candidates[s][:, idx] = q_s
+            residual[s, idx] = r_s
+            limit_all[s, idx] = l_s
+            if posture != "nearest":
+                pval_s = _posture_value(params, _kinematics.forward(params, q_s), elbow)
+                good = (r_s <= tolerance_m * 10.0) & (pval_s > -1e-12 if posture == "elbow_up"
+                                                      else pval_s < 1e-12)
+                todo = idx[~good]
+        candidates = np.where(np.isnan(candidates), 0.0, candidates)
         converged = residual <= tolerance_m * 10.0
-        stuck_at_limit = np.any(limit_all.reshape(s_count, count) & ~converged, axis=0)
+        stuck_at_limit = np.any(limit_all & ~converged, axis=0)
         dist = np.linalg.norm(targets - o1[:, None], axis=0)
         status = np.where(dist > _reach_bound(params), OUT_OF_REACH, OK)
         status = np.where(off_plane, OFF_PLANE, status)

@@ -78,6 +78,17 @@ def metric_map(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
     """
     import xarray as xr
 
+    values, solution, points, grid, arm, attrs = map_arrays(
+        arm, region, accel_mps2=accel_mps2, approach=approach, payload_kg=payload_kg,
+        posture=posture, reference_deg=reference_deg, tool_angle_deg=tool_angle_deg,
+        elbow_joint=elbow_joint, near_singular_threshold=near_singular_threshold, **solver_options)
+    return _to_dataset(xr, arm, values, solution, points, grid, attrs)
+
+
+def map_arrays(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
+               posture="elbow_up", reference_deg=None, tool_angle_deg=None, elbow_joint=None,
+               near_singular_threshold=0.01, **solver_options):
+    """The arrays behind :func:`metric_map` (flat over the grid), without building a Dataset."""
     task = region if isinstance(region, Task) else None
     if task is not None:
         region = task.region
@@ -91,7 +102,7 @@ def metric_map(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
         arm = arm.with_values({"tool.payload_kg": float(payload_kg)})
     params = arm._params
     points, grid = region.sample()
-    shape = points.shape[:-1]
+    solver_options.setdefault("table_size", int(min(16384, max(1024, 4 * points[..., 0].size))))
     solution = solve_positions(arm, points, posture=posture, reference_deg=reference_deg,
                                tool_angle_deg=tool_angle_deg, elbow_joint=elbow_joint,
                                **solver_options)
@@ -138,7 +149,33 @@ def metric_map(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
             values["min_margin"][flat_ok] = head.min_margin
             values["limiting_joint"][flat_ok] = head.limiting_joint
             values["accel_capability"][flat_ok] = _metrics.acceleration_capability(params, terms)
+    if approach is None:
+        del values["mass_along_approach"]
+    attrs = {
+        "design": arm.name, "region_kind": region.kind,
+        "cell_measure": region.cell_measure,
+        "cell_measure_units": {"rectangle": "m^2", "box": "m^3", "points": "1"}[region.kind],
+        "accel_mps2": accel, "posture": posture,
+        "payload_kg": float(arm.to_dict()["tool"]["payload_kg"]),
+        "moving_mass_kg": arm.moving_mass,
+        "gravity_mps2": list(map(float, params.gravity)),
+        "task_axes": params.task_axes.ravel().tolist(),
+        "caution": TORQUE_CAUTION,
+    }
+    if region.kind in ("rectangle", "box"):
+        attrs["region_center_m"] = list(map(float, region.center_m))
+        attrs["region_axes"] = [float(x) for row in region.axes for x in row]
+    if approach is not None:
+        attrs["approach"] = list(map(float, approach))
+    values["status"] = solution.status.reshape(-1)
+    return values, solution, points, grid, arm, attrs
 
+
+def _to_dataset(xr, arm, values, solution, points, grid, attrs):
+    params = arm._params
+    shape = points.shape[:-1]
+    n = params.n
+    k = params.task_axes.shape[0]
     dims = tuple(grid)
     coords = {name: (name, axis, {"units": "m" if name != "point" else "1"})
               for name, axis in grid.items()}
@@ -147,10 +184,10 @@ def metric_map(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
     coords["joint"] = ("joint", list(arm.joint_names))
     coords["principal"] = ("principal", np.arange(k))
     coords["component"] = ("component", ["x", "y", "z"])
-    extra_dims = {1: ("joint",), 2: ("principal",), 3: ("component", "principal")}
-
     data_vars = {}
     for name, arr in values.items():
+        if name == "status":
+            continue
         trailing = arr.shape[1:]
         if name in ("static_torque", "utilisation"):
             var_dims = dims + ("joint",)
@@ -165,24 +202,6 @@ def metric_map(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
     status_attrs = _attrs("status")
     status_attrs.update(flag_values=list(STATUS), flag_meanings=" ".join(STATUS.values()))
     data_vars["status"] = (dims, solution.status.reshape(shape), status_attrs)
-    if approach is None:
-        del data_vars["mass_along_approach"]
-    del extra_dims
     ds = xr.Dataset(data_vars, coords=coords)
-    ds.attrs.update({
-        "design": arm.name, "region_kind": region.kind,
-        "cell_measure": region.cell_measure,
-        "cell_measure_units": {"rectangle": "m^2", "box": "m^3", "points": "1"}[region.kind],
-        "accel_mps2": accel, "posture": posture, "payload_kg": float(arm.to_dict()["tool"]
-                                                                     ["payload_kg"]),
-        "moving_mass_kg": arm.moving_mass,
-        "gravity_mps2": list(map(float, params.gravity)),
-        "task_axes": params.task_axes.ravel().tolist(),
-        "caution": TORQUE_CAUTION,
-    })
-    if region.kind in ("rectangle", "box"):
-        ds.attrs["region_center_m"] = list(map(float, region.center_m))
-        ds.attrs["region_axes"] = [float(x) for row in region.axes for x in row]
-    if approach is not None:
-        ds.attrs["approach"] = list(map(float, approach))
+    ds.attrs.update(attrs)
     return ds

@@ -6,7 +6,7 @@ redone by hand from the map's own variables.
 
 import numpy as np
 
-__all__ = ["design_scores", "scores_table", "SCORE_COLUMNS"]
+__all__ = ["design_scores", "scores_from_arrays", "scores_table", "SCORE_COLUMNS"]
 
 #: score name -> (units, definition); the order is the table's column order
 SCORE_COLUMNS = {
@@ -38,12 +38,18 @@ def design_scores(ds):
     weighted mean; it is not a joint-space mean. Both choices change the number
     (Gosselin & Angeles 1991 integrate over the workspace).
     """
-    ok = (ds["status"].values == 0)
-    iso = ds["isotropy"].values[ok]
-    ratio = ds["mass_ratio"].values[ok]
-    weight = np.full(iso.shape, float(ds.attrs.get("cell_measure", 1.0)))
+    arrays = {name: ds[name].values for name in ds.data_vars}
+    return scores_from_arrays(arrays, ds.attrs, list(ds["joint"].values))
+
+
+def scores_from_arrays(arrays, attrs, joint_names):
+    """:func:`design_scores` from the map's arrays and attributes (no Dataset needed)."""
+    ok = (arrays["status"] == 0)
+    iso = arrays["isotropy"][ok]
+    ratio = arrays["mass_ratio"][ok]
+    weight = np.full(iso.shape, float(attrs.get("cell_measure", 1.0)))
     row = {
-        "design": ds.attrs.get("design", ""),
+        "design": attrs.get("design", ""),
         "reachable_fraction": float(ok.mean()) if ok.size else 0.0,
         "gci": float(np.sum(iso * weight) / np.sum(weight)) if iso.size else np.nan,
         "isotropy_worst": float(iso.min()) if iso.size else np.nan,
@@ -52,16 +58,16 @@ def design_scores(ds):
         "mass_ratio_p5": _percentile(ratio, 5),
         "headroom_worst": np.nan, "headroom_worst_joint": "not rated",
         "headroom_positive_fraction": np.nan, "accel_capability_min": np.nan,
-        "moving_mass_kg": float(ds.attrs.get("moving_mass_kg", np.nan)),
+        "moving_mass_kg": float(attrs.get("moving_mass_kg", np.nan)),
     }
-    if "min_margin" in ds and iso.size:
-        margin = ds["min_margin"].values[ok]
+    if "min_margin" in arrays and iso.size:
+        margin = arrays["min_margin"][ok]
         worst = int(np.argmin(margin))
-        joint_index = int(ds["limiting_joint"].values[ok][worst])
+        joint_index = int(arrays["limiting_joint"][ok][worst])
         row["headroom_worst"] = float(margin[worst])
-        row["headroom_worst_joint"] = str(ds["joint"].values[joint_index])
+        row["headroom_worst_joint"] = str(joint_names[joint_index])
         row["headroom_positive_fraction"] = float(np.mean(margin > 0.0))
-        row["accel_capability_min"] = float(ds["accel_capability"].values[ok].min())
+        row["accel_capability_min"] = float(arrays["accel_capability"][ok].min())
     return row
 
 

@@ -14,22 +14,26 @@ import numpy as np
 from ._arm import Arm
 from ._errors import DesignError
 from ._paths import get_value
-from ._scores import SCORE_COLUMNS, design_scores
+from ._scores import SCORE_COLUMNS, design_scores, scores_from_arrays
 
 __all__ = ["Sweep"]
 
 
 def _score_chunk(spec, region, map_options, chunk, keep_maps):
     """Worker: score every (index, values) of ``chunk``; errors are returned, not raised."""
-    from ._maps import metric_map
+    from ._maps import map_arrays, metric_map
 
     base = Arm.from_dict(spec)
     out = []
     for index, values in chunk:
         try:
             arm = base.with_values(values)
-            ds = metric_map(arm, region, **map_options)
-            out.append((index, design_scores(ds), None, ds if keep_maps else None))
+            if keep_maps:
+                ds = metric_map(arm, region, **map_options)
+                out.append((index, design_scores(ds), None, ds))
+            else:
+                arrays, _, _, _, arm, attrs = map_arrays(arm, region, **map_options)
+                out.append((index, scores_from_arrays(arrays, attrs, arm.joint_names), None, None))
         except (DesignError, ValueError) as exc:
             out.append((index, None, str(exc), None))
     return out
@@ -50,8 +54,8 @@ class Sweep:
         Where to score (default: the base design's own ``[task]``).
     keep_maps : bool, default False
         Keep every variant's map in ``maps_`` (memory grows with the sweep).
-    chunk_size : int, default 25
-        Variants per task sent to a worker.
+    chunk_size : int, optional
+        Variants per task sent to a worker (default: about four tasks per worker, at most 25).
     progress : bool, default True
         Show a progress bar (``tqdm.auto``, notebook-aware).
     **map_options
@@ -66,7 +70,7 @@ class Sweep:
     """
 
     def __init__(self, base, *, vary=None, variants=None, region=None, keep_maps=False,
-                 chunk_size=25, progress=True, **map_options):
+                 chunk_size=None, progress=True, **map_options):
         self.base = base
         self.vary = vary
         self.variants = variants
@@ -121,8 +125,9 @@ class Sweep:
         elif hasattr(executor, "get_executor"):          # a dask.distributed Client
             executor = executor.get_executor()
         workers = getattr(executor, "_max_workers", None) or os.cpu_count() or 2
-        chunks = [list(enumerate(combos))[i:i + self.chunk_size]
-                  for i in range(0, len(combos), self.chunk_size)]
+        size = self.chunk_size or max(1, min(25, len(combos) // (4 * workers)))
+        indexed = list(enumerate(combos))
+        chunks = [indexed[i:i + size] for i in range(0, len(combos), size)]
         scores = [None] * len(combos)
         errors = [""] * len(combos)
         maps = [None] * len(combos) if self.keep_maps else None

@@ -1,0 +1,94 @@
+"""Speed of whole-region work: a 100 x 100 map, a 1,000-variant sweep, and dask scaling.
+
+1. A 100 x 100 map of every metric for the 3-joint demo arm (designs/kestrel_a.toml),
+   inverse kinematics included (target: under 0.3 s on one core).
+2. A sweep of 1,000 variants (link ratio x mount tilt x payload) scored on a 20 x 20
+   region, on one core (target: under 20 s).
+3. The same kind of sweep (fewer variants) on a dask.distributed LocalCluster with one and
+   with two single-threaded worker processes (target: two workers 1.6x faster or more).
+   This needs two idle cores; the ratio is measured in the same run.
+
+Run: ``python benchmarks/region_speed.py [--quick]`` (single-threaded BLAS is forced here).
+"""
+
+import os
+
+os.environ.setdefault("OMP_NUM_THREADS", "1")
+os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
+os.environ.setdefault("MKL_NUM_THREADS", "1")
+
+import sys  # noqa: E402
+import time  # noqa: E402
+from concurrent.futures import ThreadPoolExecutor  # noqa: E402
+from pathlib import Path  # noqa: E402
+
+import numpy as np  # noqa: E402
+
+import inertia_review as ir  # noqa: E402
+
+ROOT = Path(__file__).resolve().parents[1]
+
+
+def sweep(arm, region, n_ratio, n_tilt, n_payload):
+    return ir.Sweep(arm, vary={"derived.link_ratio": np.linspace(0.6, 1.4, n_ratio),
+                               "mount.rpy_deg[1]": np.linspace(0.0, 30.0, n_tilt),
+                               "tool.payload_kg": np.linspace(0.1, 0.6, n_payload)},
+                    region=region, accel_mps2=2.0, progress=False)
+
+
+def timed(fn):
+    start = time.perf_counter()
+    out = fn()
+    return time.perf_counter() - start, out
+
+
+def main(quick=False):
+    arm = ir.load_design(ROOT / "designs" / "kestrel_a.toml")
+    big = ir.Rectangle((0.38, 0.05, 0.20), ((1.0, 0.0, 0.0), (0.0, 0.0, 1.0)), (0.495, 0.495), 0.005)
+    small = ir.Rectangle((0.38, 0.05, 0.20), ((1.0, 0.0, 0.0), (0.0, 0.0, 1.0)), (0.38, 0.38), 0.02)
+    ir.metric_map(arm, small)                               # imports and caches warm
+    times = [timed(lambda: ir.metric_map(arm, big, accel_mps2=2.0, approach=(0, 0, -1)))[0]
+             for _ in range(5)]
+    ds = ir.metric_map(arm, big)
+    t_map = min(times)
+    print(f"map: {ds.sizes['v_m']} x {ds.sizes['u_m']} points, every metric, IK included: "
+          f"{t_map:.3f} s (best of 5; {int((ds.status == 0).sum())} points solved)")
+
+    n_ratio, n_tilt, n_payload = (5, 4, 2) if quick else (10, 10, 10)
+    count = n_ratio * n_tilt * n_payload
+    with ThreadPoolExecutor(1) as one_core:
+        t_sweep, sw = timed(lambda: sweep(arm, small, n_ratio, n_tilt, n_payload).run(one_core))
+    per = t_sweep / count
+    print(f"sweep: {count} variants on {small.grid_axes()['u_m'].size} x "
+          f"{small.grid_axes()['v_m'].size} points, one core: {t_sweep:.2f} s "
+          f"({1000 * per:.1f} ms per variant; {sw.results_.attrs['n_failed']} failed)")
+
+    from dask.distributed import Client, LocalCluster
+    dask_shape = (4, 5, 2) if quick else (5, 8, 5)
+    results = {}
+    for workers in (1, 2):
+        with LocalCluster(n_workers=workers, threads_per_worker=1, processes=True,
+                          dashboard_address=None) as cluster, Client(cluster) as client:
+            sweep(arm, small, 2, 2, 1).run(client)            # warm the workers
+            results[workers] = timed(lambda: sweep(arm, small, *dask_shape).run(client))
+    t1, sw1 = results[1]
+    t2, sw2 = results[2]
+    same = bool(np.array_equal(sw1.results_["gci"].values, sw2.results_["gci"].values,
+                               equal_nan=True))
+    speedup = t1 / t2
+    print(f"dask: {np.prod(dask_shape)} variants, 1 worker {t1:.2f} s, 2 workers {t2:.2f} s, "
+          f"speed-up x{speedup:.2f} (results identical: {same})")
+
+    checks = [("100 x 100 map < 0.3 s", t_map < 0.3),
+              ("1,000-variant sweep < 20 s on one core"
+               + (" (extrapolated from --quick)" if quick else ""), per * 1000 < 20),
+              ("two dask workers >= 1.6x one", speedup >= 1.6)]
+    print()
+    for text, ok in checks:
+        print(f"  [{'met' if ok else 'MISSED'}] {text}")
+    print(f"\nsummary: map {t_map:.3f} s; sweep {per * 1000:.1f} s per 1000 variants; dask x{speedup:.2f}; "
+          f"targets met {sum(ok for _, ok in checks)}/{len(checks)}")
+
+
+if __name__ == "__main__":
+    main(quick="--quick" in sys.argv)

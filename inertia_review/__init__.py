@@ -9,6 +9,7 @@ from ._api import (acceleration_along, acceleration_capability, apparent_mass, e
                    isotropy_index, manipulability, mass_along, mass_ratio, near_singular,
                    principal_masses, torque_headroom)
 from ._arm import Arm
+from ._baselines import baseline_table
 from ._builders import planar_chain, yaw_pitch_pitch_arm
 from ._design import STANDARD_GRAVITY
 from ._design_io import load_design, save_design
@@ -39,7 +40,7 @@ __all__ = [
     "Rectangle", "Box", "PointSet", "Task", "region_from_dict", "task_from_dict",
     "solve_positions", "PositionSolution", "STATUS",
     "metric_map", "METRIC_ATTRS", "design_scores", "scores_table", "SCORE_COLUMNS",
-    "Sweep", "parameter_paths", "save_results", "load_results",
+    "Sweep", "parameter_paths", "save_results", "load_results", "baseline_table",
     # result types and constants
     "PrincipalMasses", "TorqueHeadroom", "STANDARD_GRAVITY",
 ]

@@ -46,6 +46,19 @@ def _cmd_check(args):
     return status
 
 
+def _cmd_rebaseline(args):
+    from ._notebooks import rebaseline
+    changed = rebaseline(args.notebook, accept=not args.dry_run)
+    return 0 if (not args.dry_run or not changed) else 1
+
+
+def _cmd_report(args):
+    from ._notebooks import write_report
+    out = write_report(args.notebook, args.output)
+    print(f"wrote {out} (self-contained HTML review of {args.notebook})")
+    return 0
+
+
 def build_parser():
     parser = argparse.ArgumentParser(prog="inertia-review", description=(
         "Review robot-arm designs: apparent tool mass, isotropy and torque headroom."))
@@ -60,6 +73,16 @@ def build_parser():
     check = sub.add_parser("check", help="validate design files and print their errors or a summary")
     check.add_argument("designs", nargs="+", help="design files (TOML)")
     check.set_defaults(func=_cmd_check)
+    rebase = sub.add_parser("rebaseline", help="re-execute a review notebook, show what changed "
+                                               "in its checked outputs, and save the new outputs")
+    rebase.add_argument("notebook")
+    rebase.add_argument("--dry-run", action="store_true",
+                        help="show the changes only; do not save (exit 1 if any changed)")
+    rebase.set_defaults(func=_cmd_rebaseline)
+    report = sub.add_parser("report", help="execute a notebook and write a self-contained HTML review")
+    report.add_argument("notebook")
+    report.add_argument("-o", "--output", required=True, help="HTML file to write")
+    report.set_defaults(func=_cmd_report)
     return parser
 
 

@@ -12,7 +12,7 @@ from ._errors import DesignError
 from ._materials import MATERIALS
 from ._rotation import inertia_tensor
 from ._validate import (Problems, check_keys, get_list, get_number, get_string, get_table,
-                        get_vector, join)
+                        get_vector, get_vector_item, join)
 
 __all__ = ["normalise_design", "SUPPORTED_FORMATS", "STANDARD_GRAVITY"]
 
@@ -164,23 +164,29 @@ def _normalise_joint(problems, joint, index):
 
 
 def _normalise_task(problems, task, n_hint):
-    """Task axes here; the region, acceleration, payload and approach are checked by
-    ``_regions.task_from_dict`` once the arm's default task axes are known."""
+    """Task axes, region, acceleration, payload and approach; a rectangle without axes
+    takes the arm's task axes later (``Arm.from_dict``)."""
+    from ._regions import DEFER, parse_task
+
     check_keys(problems, task, TASK_KEYS, "task")
-    out = {key: task[key] for key in ("region", "accel_mps2", "payload_kg", "approach")
-           if key in task}
+    out = {}
+    if any(key in task for key in ("region", "accel_mps2", "payload_kg", "approach")):
+        extras = {k: v for k, v in task.items() if k != "axes"}
+        sub = Problems()
+        parsed = parse_task(sub, extras, DEFER)
+        # unknown keys of [task] itself are reported once, by check_keys above
+        problems.items.extend(item for item in sub.items
+                              if not (item[0].count(".") == 1 and "unknown key" in item[1]))
+        if parsed is not None:
+            out.update(parsed.to_dict())
     if "axes" in task:
         rows = task["axes"]
         if not isinstance(rows, (list, tuple)) or not 1 <= len(rows) <= 3:
             problems.add("task.axes", "must be a list of 1 to 3 vectors of 3 numbers")
             return out
-        vectors = []
-        for i, _ in enumerate(rows):
-            vec = get_vector(problems, {"v": rows[i]}, "v", "", 3)
-            if vec is None:
-                problems.add(f"task.axes[{i}]", "must be a list of 3 finite numbers")
-                return out
-            vectors.append(vec)
+        vectors = [get_vector_item(problems, rows, i, "task.axes", 3) for i in range(len(rows))]
+        if any(v is None for v in vectors):
+            return out
         a = np.array(vectors)
         if np.max(np.abs(a @ a.T - np.eye(len(vectors)))) > 1e-9:
             problems.add("task.axes", "rows must be orthonormal (within 1e-9)")

@@ -45,11 +45,18 @@ class PositionSolution(NamedTuple):
 
 
 def _up_direction(params):
+    """'Up' for the posture rules: against gravity, within the task span.
+
+    Where gravity has no part in the task span (a planar arm in a horizontal plane, or no
+    gravity), the task's last axis stands in for 'up'.
+    """
+    a = params.task_axes
     g = params.gravity
-    norm = np.linalg.norm(g)
-    if norm > 0.0:
-        return -g / norm
-    return params.task_axes[-1]
+    up = -(a.T @ (a @ g))
+    norm = np.linalg.norm(up)
+    if norm > 1e-9 * max(np.linalg.norm(g), 1e-300):
+        return up / norm
+    return a[-1]
 
 
 def _posture_value(params, frames, elbow_joint):
@@ -140,12 +147,12 @@ def _solve_small(mat, rhs):
 
 
 def _dls(params, q, targets, tool_angle=None, *, tolerance, max_iterations, damping,
-         reference=None, null_gain=0.0):
+         reference=None, null_gain=0.0, clip=True):
     """Damped least-squares iterations on (n, N) seeds toward targets (3, N).
 
-    Each step is clipped to the joint limits (the seeds lie inside them), so a converged
-    point is inside the limits; a point that stalls with a joint at a limit is reported
-    as beyond the limits. Returns q, the residual [m] and the at-a-limit mask.
+    With ``clip`` each step is clipped to the joint limits (the seeds lie inside them), so
+    a converged point is inside the limits. Returns q, the residual [m] and the
+    at-a-limit mask.
     """
     a = params.task_axes
     senses = None
@@ -178,7 +185,10 @@ def _dls(params, q, targets, tool_angle=None, *, tolerance, max_iterations, damp
         keep = ~done
         active, qa, err, jac = active[keep], qa[:, keep], err[:, keep], jac[:, :, keep]
         jjt = matmul(jac, transpose(jac))
-        jjt = jjt + (damping ** 2) * np.eye(jjt.shape[0])[:, :, None]
+        # damping shrinks with the error (Levenberg-Marquardt style), so that steps near a
+        # singular configuration stay bounded and convergence stays fast near the solution
+        lam = np.minimum(damping, 10.0 * norm[keep])
+        jjt = jjt + (lam * lam) * np.eye(jjt.shape[0])[:, :, None]
         step = np.sum(jac * _solve_small(jjt, err)[:, None, :], axis=0)   # J^T (JJ^T + l^2)^-1 e
         if reference is not None and null_gain > 0.0:
             pull = reference[:, None] - qa
@@ -187,7 +197,8 @@ def _dls(params, q, targets, tool_angle=None, *, tolerance, max_iterations, damp
             step = step + null_gain * (pull - proj)
         step_norm = np.sqrt(np.sum(step * step, axis=0))
         step = step * np.minimum(1.0, 0.5 / np.maximum(step_norm, 1e-300))[None]  # <= 0.5 rad
-        q[:, active] = np.clip(qa + step, params.limits[:, 0:1], params.limits[:, 1:2])
+        q[:, active] = (np.clip(qa + step, params.limits[:, 0:1], params.limits[:, 1:2])
+                        if clip else qa + step)
     low, high = params.limits[:, 0:1], params.limits[:, 1:2]
     at_limit = np.any((q <= low + 1e-9) | (q >= high - 1e-9), axis=0)
     return q, residual, at_limit
@@ -201,7 +212,7 @@ def _seed_table(params, size, random_state):
 
 
 def solve_positions(arm, points, *, posture="elbow_up", reference_deg=None, tool_angle_deg=None,
-                    elbow_joint=None, seeds=4, tolerance_m=1e-9, max_iterations=40,
+                    elbow_joint=None, seeds=8, tolerance_m=1e-9, max_iterations=40,
                     table_size=16384, random_state=0, method="auto"):
     """Joint configurations that put the tool point at world points (..., 3) [m].
 
@@ -210,7 +221,9 @@ def solve_positions(arm, points, *, posture="elbow_up", reference_deg=None, tool
     posture : {'elbow_up', 'elbow_down', 'nearest'}
         Branch rule. 'elbow_up' keeps the branch whose elbow joint (``elbow_joint``,
         default the last joint) sits above the line from joint 1 to the tool point,
-        "above" meaning against gravity; 'nearest' the solution nearest ``reference_deg``.
+        "above" meaning against gravity within the task span (for an arm in a horizontal
+        plane: along the plane's second task axis); 'nearest' the solution nearest
+        ``reference_deg``.
     reference_deg : sequence of n float, optional
         Reference posture [deg] for 'nearest' (default: the middle of the joint limits).
     tool_angle_deg : float or array, optional
@@ -233,6 +246,7 @@ def solve_positions(arm, points, *, posture="elbow_up", reference_deg=None, tool
     if pts.ndim == 0 or pts.shape[-1] != 3 or not np.all(np.isfinite(pts)):
         raise ValueError(f"Expected finite `points` with shape (..., 3) [m], got {pts.shape}.")
     (targets,), batch = to_core(pts)
+    targets = targets - params.mount_position[:, None]    # the core works relative to the mount
     count = targets.shape[1]
     n, k = params.n, params.task_axes.shape[0]
     elbow = n - 1 if elbow_joint is None else int(elbow_joint)
@@ -287,35 +301,52 @@ def solve_positions(arm, points, *, posture="elbow_up", reference_deg=None, tool
         candidates = np.full((s_count, n, count), np.nan)
         residual = np.full((s_count, count), np.inf)
         limit_all = np.zeros((s_count, count), dtype=bool)
+        # round 1: the nearest seed for every point; round 2: all other seeds at once, for
+        # the points that round 1 did not solve in the requested posture ('nearest' compares
+        # every seed's solution, so it runs all seeds for all points)
+        rounds = [[0], list(range(1, s_count))] if posture != "nearest" else [list(range(s_count))]
         todo = np.arange(count)
-        for s in range(s_count):
-            # 'nearest' compares every seed's solution; the branch rules stop at the first
-            # seed whose solution converges in the requested posture
-            idx = np.arange(count) if posture == "nearest" else todo
-            if idx.size == 0:
-                break
-            q_s, r_s, l_s = _dls(params, table_q[:, nearest[s, idx]], targets[:, idx],
+        for seeds_round in rounds:
+            if not seeds_round or todo.size == 0:
+                continue
+            sel = np.array(seeds_round)
+            idx = np.tile(todo, sel.size)
+            seed_rows = np.repeat(sel, todo.size)
+            q_s, r_s, l_s = _dls(params, table_q[:, nearest[seed_rows, idx]], targets[:, idx],
                                  None if angle is None else angle[idx], tolerance=tolerance_m,
                                  max_iterations=max_iterations,
                                  damping=1e-3 * _reach_bound(params),
                                  reference=reference if n > k else None,
                                  null_gain=0.2 if (n > k and angle is None) else 0.0)
-            candidates[s][:, idx] = q_s
-            residual[s, idx] = r_s
-            limit_all[s, idx] = l_s
+            candidates[seed_rows, :, idx] = q_s.T
+            residual[seed_rows, idx] = r_s
+            limit_all[seed_rows, idx] = l_s
             if posture != "nearest":
                 pval_s = _posture_value(params, _kinematics.forward(params, q_s), elbow)
                 good = (r_s <= tolerance_m * 10.0) & (pval_s > -1e-12 if posture == "elbow_up"
                                                       else pval_s < 1e-12)
-                todo = idx[~good]
+                solved = np.zeros(count, dtype=bool)
+                solved[idx[good]] = True
+                todo = todo[~solved[todo]]
         candidates = np.where(np.isnan(candidates), 0.0, candidates)
         converged = residual <= tolerance_m * 10.0
-        stuck_at_limit = np.any(limit_all & ~converged, axis=0)
         dist = np.linalg.norm(targets - o1[:, None], axis=0)
         status = np.where(dist > _reach_bound(params), OUT_OF_REACH, OK)
         status = np.where(off_plane, OFF_PLANE, status)
-        status = np.where((status == OK) & ~np.any(converged, axis=0) & stuck_at_limit,
-                          BEYOND_LIMITS, status)
+        # points no seed solved within the limits: try again with the limits ignored, to
+        # tell "beyond the joint limits" (a solution exists outside them) from "out of reach"
+        failing = np.flatnonzero((status == OK) & ~np.any(converged, axis=0))
+        if failing.size:
+            idx = np.tile(failing, s_count)
+            rows = np.repeat(np.arange(s_count), failing.size)
+            q_f, r_f, _ = _dls(params, table_q[:, nearest[rows, idx]], targets[:, idx],
+                               None if angle is None else angle[idx], tolerance=tolerance_m,
+                               max_iterations=max_iterations,
+                               damping=1e-3 * _reach_bound(params), clip=False)
+            candidates[rows, :, idx] = np.arctan2(np.sin(q_f), np.cos(q_f)).T
+            residual[rows, idx] = r_f
+            converged = residual <= tolerance_m * 10.0
+            status = np.where((status == OK) & ~np.any(converged, axis=0), OUT_OF_REACH, status)
 
     # joint limits, posture and choice among candidates
     s_count = candidates.shape[0]

@@ -102,7 +102,7 @@ def map_arrays(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
         arm = arm.with_values({"tool.payload_kg": float(payload_kg)})
     params = arm._params
     points, grid = region.sample()
-    solver_options.setdefault("table_size", int(min(16384, max(1024, 4 * points[..., 0].size))))
+    solver_options.setdefault("table_size", int(min(16384, max(2048, 4 * points[..., 0].size))))
     solution = solve_positions(arm, points, posture=posture, reference_deg=reference_deg,
                                tool_angle_deg=tool_angle_deg, elbow_joint=elbow_joint,
                                **solver_options)

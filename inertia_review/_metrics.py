@@ -107,10 +107,33 @@ def mass_ratio(params, terms):
     return np.where(terms.singular, 0.0, ratio)
 
 
+def _square_det(m):
+    """Determinant of a (k, k, N) stack for k <= 3 (explicit cofactor expansion)."""
+    k = m.shape[0]
+    if k == 1:
+        return m[0, 0]
+    if k == 2:
+        return m[0, 0] * m[1, 1] - m[0, 1] * m[1, 0]
+    return (m[0, 0] * (m[1, 1] * m[2, 2] - m[1, 2] * m[2, 1])
+            - m[0, 1] * (m[1, 0] * m[2, 2] - m[1, 2] * m[2, 0])
+            + m[0, 2] * (m[1, 0] * m[2, 1] - m[1, 1] * m[2, 0]))
+
+
 def _task_gram_eigvals(params, terms):
+    """Ascending eigenvalues (k, N) of J_t J_t^T (squared singular values of J_t).
+
+    For a square J_t the smallest one is recomputed as det(J_t)^2 / (product of the others),
+    which keeps its relative accuracy near singular configurations.
+    """
     jt = terms.task_jacobian
     vals, _ = sym_eig(matmul(jt, transpose(jt)))
-    return np.maximum(vals, 0.0)
+    vals = np.maximum(vals, 0.0)
+    k = jt.shape[0]
+    if jt.shape[1] == k and k <= 3:
+        det2 = _square_det(jt) ** 2
+        others = np.prod(vals[1:], axis=0)
+        vals[0] = np.where(others > 0.0, det2 / np.where(others > 0.0, others, 1.0), 0.0)
+    return vals
 
 
 def isotropy_index(params, terms):
@@ -124,8 +147,11 @@ def isotropy_index(params, terms):
 
 def manipulability(params, terms):
     """sqrt(det(J_t J_t^T)) (N,); 0 where n < k."""
-    if params.n < params.task_axes.shape[0]:
+    k = params.task_axes.shape[0]
+    if params.n < k:
         return np.zeros(terms.singular.shape)
+    if params.n == k and k <= 3:
+        return np.abs(_square_det(terms.task_jacobian))
     return np.sqrt(np.prod(_task_gram_eigvals(params, terms), axis=0))
 
 

@@ -240,6 +240,10 @@ def parameter_paths(arm):
     for j, joint in enumerate(spec["joints"]):
         walk(joint, f"joints[{joint['name']}]")
         out[f"joints[{joint['name']}].link_length_m"] = _link_length(spec, j)
+        if _link_length(spec, j) > 0.0:
+            for k in range(len(joint["link"]["point_masses"])):
+                path = f"joints[{joint['name']}].link.point_masses[{k}].along"
+                out[path] = get_value(spec, path)
     walk(spec["mount"], "mount")
     walk(spec["tool"], "tool")
     if len(spec["joints"]) >= 2:

@@ -10,12 +10,16 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ._errors import DesignError
-from ._validate import Problems, check_keys, get_number, get_string, get_vector, join
+from ._validate import (Problems, check_keys, get_number, get_string, get_vector,
+                        get_vector_item, join)
 
 __all__ = ["Rectangle", "Box", "PointSet", "Task", "region_from_dict", "task_from_dict",
            "REGION_KINDS"]
 
 REGION_KINDS = ("rectangle", "box", "points")
+
+#: ``default_axes`` value meaning "the arm's task axes, filled in later" (design files)
+DEFER = object()
 _MAX_POINTS = 2_000_000
 
 
@@ -66,9 +70,11 @@ class Rectangle:
         return self.spacing_m ** 2
 
     def to_dict(self):
-        return {"kind": "rectangle", "center_m": list(self.center_m),
-                "axes": [list(r) for r in self.axes], "size_m": list(self.size_m),
-                "spacing_m": self.spacing_m}
+        out = {"kind": "rectangle", "center_m": list(self.center_m), "size_m": list(self.size_m),
+               "spacing_m": self.spacing_m}
+        if self.axes is not None:
+            out["axes"] = [list(r) for r in self.axes]
+        return out
 
 
 @dataclass(frozen=True)
@@ -165,13 +171,10 @@ def _parse_region(problems, data, path, default_axes):
         if not isinstance(rows, (list, tuple)) or not rows:
             problems.add(join(path, "points_m"), "must be a non-empty list of [x, y, z] points [m]")
             return None
-        points = []
-        for i in range(len(rows)):
-            vec = get_vector(problems, {"p": rows[i]}, "p", "", 3)
-            if vec is None:
-                problems.add(f"{join(path, 'points_m')}[{i}]", "must be 3 finite numbers [m]")
-                return None
-            points.append(vec)
+        points = [get_vector_item(problems, rows, i, join(path, "points_m"), 3)
+                  for i in range(len(rows))]
+        if any(p is None for p in points):
+            return None
         return PointSet(tuple(points))
     check_keys(problems, data, _RECT_KEYS if kind == "rectangle" else _BOX_KEYS, path)
     dim = 2 if kind == "rectangle" else 3
@@ -187,9 +190,15 @@ def _parse_region(problems, data, path, default_axes):
         if not isinstance(rows, (list, tuple)) or len(rows) != dim:
             problems.add(join(path, "axes"), f"must be {dim} vectors of 3 numbers")
         else:
-            vecs = [get_vector(problems, {"a": r}, "a", join(path, "axes"), 3) for r in rows]
+            vecs = [get_vector_item(problems, rows, i, join(path, "axes"), 3)
+                    for i in range(len(rows))]
             if all(v is not None for v in vecs):
                 axes = _orthonormal(vecs, join(path, "axes"), problems)
+    elif kind == "rectangle" and default_axes is DEFER:
+        axes = None
+        if None in (center, size, spacing):
+            return None
+        return Rectangle(center, None, size, spacing)
     elif kind == "rectangle":
         if default_axes is None or len(default_axes) != 2:
             problems.add(join(path, "axes"), "required for a rectangle when the arm's task is not "
@@ -226,6 +235,14 @@ _TASK_KEYS = ("axes", "region", "accel_mps2", "payload_kg", "approach")
 def task_from_dict(data, *, default_axes=None, name="task"):
     """A :class:`Task` from a ``[task]`` mapping; DesignError listing every problem."""
     problems = Problems()
+    task = parse_task(problems, data, default_axes)
+    if problems:
+        raise DesignError(name, problems.items)
+    return task
+
+
+def parse_task(problems, data, default_axes):
+    """A :class:`Task` (or None), recording problems with their ``task.`` paths."""
     check_keys(problems, data, _TASK_KEYS, "task")
     region = None
     if "region" not in data:
@@ -241,6 +258,6 @@ def task_from_dict(data, *, default_axes=None, name="task"):
             problems.add("task.approach", "must be a non-zero direction")
         else:
             approach = tuple(a / norm for a in approach)
-    if problems:
-        raise DesignError(name, problems.items)
+    if region is None:
+        return None
     return Task(region, accel, payload, approach)

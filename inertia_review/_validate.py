@@ -13,7 +13,7 @@ from numbers import Real
 
 import numpy as np
 
-__all__ = ["Problems", "join", "check_keys", "get_number", "get_vector",
+__all__ = ["Problems", "join", "check_keys", "get_number", "get_vector", "get_vector_item",
            "get_string", "get_table", "get_list", "check_q", "check_unit_in_span"]
 
 _MISSING = object()
@@ -121,6 +121,11 @@ def get_vector(problems, table, key, path, length, *, default=_MISSING):
             return None
         out.append(item)
     return tuple(out)
+
+
+def get_vector_item(problems, rows, index, path, length):
+    """Entry ``index`` of a list of vectors, checked as a vector; its path is ``path[index]``."""
+    return get_vector(problems, {index: rows[index]}, index, path, length)
 
 
 def get_string(problems, table, key, path, *, default=_MISSING):

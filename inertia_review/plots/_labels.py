@@ -85,8 +85,28 @@ _DERIVED = {
 }
 
 
+def _path_words(head):
+    """Readable words for the head of a parameter path: joints[elbow].link -> elbow link."""
+    words = []
+    for part in head.split(".") if head else []:
+        m = re.fullmatch(r"([A-Za-z_]+)\[([^\]]+)\]", part)
+        if m and m.group(1) == "joints":
+            key = m.group(2)
+            words.append(f"joints[{key}]" if re.fullmatch(r"-?\d+", key) else key)
+        elif m and m.group(1) == "point_masses":
+            words.append(f"point mass {m.group(2)}")
+        elif part == "actuator":
+            continue
+        else:
+            words.append(part.replace("_", " "))
+    return words
+
+
 def parameter_label(path):
-    """(label, factor) for a sweep parameter path, e.g. ``mount.rpy_deg[1]`` -> mount pitch [deg]."""
+    """(label, factor) for a sweep parameter path, e.g. ``mount.rpy_deg[1]`` -> mount pitch [deg].
+
+    ``factor`` converts the path's SI value to the screen unit (m -> mm).
+    """
     if path in _DERIVED:
         name, unit, factor = _DERIVED[path]
         return f"{name} [{unit}]", factor
@@ -102,15 +122,19 @@ def parameter_label(path):
             break
     if last == "rpy" and index is not None and index < 3:
         last, index = _RPY[index], None
-    elif last in ("xyz", "com") and index is not None and index < 3:
-        last, index = f"{last} {'xyz'[index]}", None
+    elif last == "xyz" and index is not None and index < 3:
+        last, index = "xyz"[index], None
+    elif last == "com" and index is not None and index < 3:
+        last, index = f"centre of mass {'xyz'[index]}", None
     elif last == "along":
-        last = "position along the link (fraction)"
+        last = "position (fraction of link)"
+    words = _path_words(head)
     name = last.replace("_", " ")
     if index is not None:
         name = f"{name}[{index}]"
-    head = head.replace(".", " ")
-    return (f"{head} {name}" if head else name) + f" [{unit}]", factor
+    if not (name == "mass" and words and words[-1].startswith("point mass")):
+        words.append(name)
+    return " ".join(words) + f" [{unit}]", factor
 
 
 _SCORE_NAMES = {

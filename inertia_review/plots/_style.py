@@ -7,7 +7,7 @@ inside :func:`plot_style` (an ``rc_context``) while our functions draw.
 import textwrap
 
 __all__ = ["COLORS", "RC", "CMAP_SEQUENTIAL", "CMAP_DIVERGING", "HATCHES", "plot_style",
-           "prepare_axes", "add_caution", "principal_colors"]
+           "Layout", "add_caution", "principal_colors"]
 
 #: Our colours. Chosen to stay distinguishable under the common colour-vision
 #: deficiencies: dark ink, a blue and an orange from the Okabe & Ito palette
@@ -28,6 +28,7 @@ COLORS = {
     "peak": "#d55e00",         # peak rating marks
     "continuous": "#cc79a7",   # Okabe-Ito reddish purple: continuous rating marks
     "ellipse": "#222222",
+    "zone_hatch": "#8a8a8a",   # mid grey hatch: visible on dark and on light colours
 }
 
 #: Perceptually uniform, colour-blind-safe sequential map (Nunez, Anderton & Renslow,
@@ -45,7 +46,7 @@ HATCHES = ("////", "\\\\\\\\", "....", "xxxx", "oo", "++", "--", "||")
 RC = {
     "font.size": 10.0,
     "axes.titlesize": 11.0,
-    "axes.titleweight": "semibold",
+    "axes.titleweight": "bold",
     "axes.labelsize": 10.0,
     "xtick.labelsize": 9.0,
     "ytick.labelsize": 9.0,
@@ -82,22 +83,101 @@ def plot_style():
     return mpl.rc_context(RC)
 
 
-def prepare_axes(ax, *, figsize=(6.4, 5.0), equal=False, grid=False):
-    """The Axes to draw into: ``ax`` itself, or a new figure's only Axes when ``ax`` is None.
+def _legend_columns(handles, width_in, fontsize=8.5):
+    labels = [h.get_label() for h in handles]
+    longest = max((len(t) for t in labels), default=10) + 6
+    per_row = int(width_in * 72.0 / (0.55 * fontsize))
+    return max(1, min(len(labels), per_row // longest))
 
-    A new figure uses the constrained layout so labels, colour bars and the caution
-    text do not overlap. Never calls ``plt.figure()`` or ``plt.show()`` when ``ax`` is given.
+
+class Layout:
+    """The Axes to draw into, and where the legend and caution go.
+
+    ``ax`` given: draw into it (no new figure); the legend goes inside the Axes and a
+    caution under its x label. ``ax`` None: a new figure (constrained layout) with the
+    main Axes on top and a notes strip below it (Axes off) that holds the legend and the
+    caution, sized in :meth:`finish` so nothing overlaps; :meth:`finish` also sizes the
+    figure to the data's aspect ratio for equal-aspect plots.
     """
-    if ax is None:
+
+    def __init__(self, ax=None, *, width_in=6.4, height_in=5.0, notes=True, equal=False):
+        self.equal = equal
+        self.legend_ = None
+        self.caution_ = None
+        self._caution_lines = 0
+        if ax is not None:
+            self.ax, self.notes, self.own, self.grid = ax, None, False, None
+            self.figure = ax.figure
+            return
         import matplotlib.pyplot as plt
 
-        _, ax = plt.subplots(figsize=figsize, layout="constrained")
-    if equal:
-        ax.set_aspect("equal", adjustable="datalim")
-    if grid:
-        ax.grid(True, color=COLORS["grid"], linewidth=0.6, zorder=0)
-        ax.set_axisbelow(True)
-    return ax
+        fig = plt.figure(figsize=(width_in, height_in), layout="compressed" if equal else "constrained")
+        self.own, self.figure = True, fig
+        if notes:
+            self.grid = fig.add_gridspec(2, 1, height_ratios=[1.0, 0.05])
+            self.ax = fig.add_subplot(self.grid[0])
+            self.notes = fig.add_subplot(self.grid[1])
+            self.notes.set_axis_off()
+        else:
+            self.grid, self.notes = None, None
+            self.ax = fig.add_subplot()
+
+    def legend(self, handles, *, ncols=None, loc="best"):
+        """A legend of ``handles`` in the notes strip (own figure) or inside the Axes."""
+        handles = [h for h in handles if h is not None]
+        if not handles:
+            return None
+        if self.notes is not None:
+            ncols = ncols or _legend_columns(handles, self.figure.get_figwidth())
+            self.legend_ = self.notes.legend(handles=handles, loc="upper left",
+                                             bbox_to_anchor=(0.0, 1.0), ncols=ncols,
+                                             frameon=False, borderaxespad=0.0,
+                                             handlelength=1.8, columnspacing=1.4)
+            lines = max(str(h.get_label()).count("\n") + 1 for h in handles)
+            self._legend_rows = -(-len(handles) // ncols) * (1.0 + 0.75 * (lines - 1))
+        else:
+            self.legend_ = self.ax.legend(handles=handles, loc=loc, framealpha=0.9,
+                                          ncols=ncols or 1)
+        return self.legend_
+
+    def caution(self, text, *, fontsize=CAUTION_FONTSIZE):
+        """Place ``text`` (a caution) under the legend in the notes strip, or under the Axes."""
+        text = " ".join(str(text).split())
+        if self.notes is None:
+            self.caution_ = add_caution(self.ax, text, fontsize=fontsize)
+            return self.caution_
+        chars = max(40, int((self.figure.get_figwidth() - 0.4) * 72.0 / (0.6 * fontsize)))
+        wrapped = textwrap.fill(text, width=chars)
+        self._caution_lines = wrapped.count("\n") + 1
+        anchor = ("axes fraction", self.legend_) if self.legend_ is not None else "axes fraction"
+        xy = (0.0, 0.0) if self.legend_ is not None else (0.0, 1.0)
+        self.caution_ = self.notes.annotate(wrapped, xy=xy, xycoords=anchor, xytext=(0.0, -6.0),
+                                            textcoords="offset points", ha="left", va="top",
+                                            fontsize=fontsize, color=COLORS["ink"],
+                                            annotation_clip=False, gid="caution")
+        return self.caution_
+
+    def finish(self):
+        """Size an own figure: the main Axes to the data aspect (equal), the notes strip to fit."""
+        if not self.own:
+            return
+        width = self.figure.get_figwidth()
+        if self.equal:
+            x0, x1 = self.ax.get_xlim()
+            y0, y1 = self.ax.get_ylim()
+            aspect = abs(y1 - y0) / abs(x1 - x0) if x1 != x0 else 1.0
+            main = (width - 2.0) * min(max(aspect, 0.3), 2.0) + 1.0
+        else:
+            main = self.figure.get_figheight() - 0.3
+        notes = 0.0
+        if self.notes is not None:
+            rows = getattr(self, "_legend_rows", 0) if self.legend_ is not None else 0
+            notes = 0.24 * rows + 0.115 * self._caution_lines + 0.12
+            if rows == 0 and self._caution_lines == 0:
+                self.notes.set_visible(False)
+                notes = 0.01
+            self.grid.set_height_ratios([main, notes])
+        self.figure.set_size_inches(width, main + notes)
 
 
 def principal_colors(k):
@@ -106,17 +186,18 @@ def principal_colors(k):
                                                               COLORS["heavy"]][:k]
 
 
-def add_caution(ax, text, *, fontsize=CAUTION_FONTSIZE):
-    """Place a caution text under the Axes (below its x label), wrapped to the Axes width.
+def add_caution(ax, text, *, below=None, fontsize=CAUTION_FONTSIZE):
+    """Place a caution text under the Axes, wrapped to the Axes width.
 
-    The annotation takes part in the constrained layout, so the Axes make room for it.
-    Returns the Text artist.
+    It sits below ``below`` (an artist) or, by default, below the x label. The annotation takes part in the constrained layout, so the
+    Axes make room for it. Returns the Text artist (``gid`` "caution").
     """
     fig = ax.figure
     width_in = fig.get_figwidth() * ax.get_position().width
-    chars = max(40, int(width_in * 72.0 / (0.52 * fontsize)))
+    chars = max(40, int(width_in * 72.0 / (0.6 * fontsize)))
     wrapped = textwrap.fill(" ".join(str(text).split()), width=chars)
-    return ax.annotate(wrapped, xy=(0.0, 0.0), xycoords=("axes fraction", ax.xaxis.label),
-                       xytext=(0.0, -4.0), textcoords="offset points", ha="left", va="top",
+    anchor = ax.xaxis.label if below is None else below
+    return ax.annotate(wrapped, xy=(0.0, 0.0), xycoords=("axes fraction", anchor),
+                       xytext=(0.0, -6.0), textcoords="offset points", ha="left", va="top",
                        fontsize=fontsize, color=COLORS["ink"], annotation_clip=False,
                        gid="caution")

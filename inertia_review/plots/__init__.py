@@ -1,0 +1,43 @@
+"""Plots of inertia_review results (matplotlib only).
+
+Every plot is a plain function on an Axes, ``f(data, *, ax=None, ...)``: it makes
+a figure only when ``ax`` is None, never calls ``plt.show()``, and returns its
+artists in a small result object. Labels come from the variables' attributes in
+screen units (positions in mm, angles in deg, masses in kg). Our look (colours,
+font sizes) is applied only while drawing (:func:`plot_style`); importing this
+module changes no global matplotlib setting and does not import ``pyplot``.
+
+Maps (from :func:`inertia_review.metric_map`)
+    plot_metric_map, plot_ellipse_field, plot_principal_directions,
+    plot_small_multiples, plot_difference_map, plot_headroom_map
+Sweeps (from :class:`inertia_review.Sweep`)
+    plot_tradeoff
+One configuration (Display objects: ``from_arm``, ``plot``, ``update``)
+    MassEllipseDisplay, TorqueBarsDisplay
+
+Apparent-mass ellipses follow Asada's generalized inertia ellipsoid
+x^T Lambda x = 1 (semi-axes 1 / sqrt(mass)): short along heavy directions.
+"""
+
+from ._displays import MassEllipseDisplay, TorqueBarsDisplay
+from ._ellipses import (EllipseField, PrincipalArrows, plane_ellipses, plot_ellipse_field,
+                        plot_principal_directions)
+from ._map_plots import (HeadroomArtists, MapArtists, SmallMultiples, plot_difference_map,
+                         plot_headroom_map, plot_metric_map, plot_small_multiples)
+from ._style import CMAP_DIVERGING, CMAP_SEQUENTIAL, COLORS, plot_style
+from ._tradeoff import TradeoffArtists, plot_tradeoff
+
+__all__ = [
+    # maps
+    "plot_metric_map", "plot_ellipse_field", "plot_principal_directions",
+    "plot_small_multiples", "plot_difference_map", "plot_headroom_map",
+    # sweeps
+    "plot_tradeoff",
+    # displays
+    "MassEllipseDisplay", "TorqueBarsDisplay",
+    # result objects
+    "MapArtists", "SmallMultiples", "HeadroomArtists", "EllipseField", "PrincipalArrows",
+    "TradeoffArtists",
+    # geometry and look
+    "plane_ellipses", "plot_style", "COLORS", "CMAP_SEQUENTIAL", "CMAP_DIVERGING",
+]

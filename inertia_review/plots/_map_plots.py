@@ -1,0 +1,496 @@
+"""Map plots: a metric over the task region, differences, small multiples, headroom (private)."""
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from . import _style
+from ._labels import variable_label
+from ._plane import grid_values, map_plane, solved_mask
+from ._style import COLORS, HATCHES
+
+__all__ = ["plot_metric_map", "plot_difference_map", "plot_small_multiples",
+           "plot_headroom_map", "MapArtists", "SmallMultiples", "HeadroomArtists",
+           "arm_points", "draw_arm"]
+
+
+@dataclass
+class MapArtists:
+    """Artists drawn by :func:`plot_metric_map` (and the other map plots).
+
+    Attributes
+    ----------
+    mesh : matplotlib.collections.QuadMesh
+        The metric (masked where the point is not solved or not finite), screen units.
+    colorbar : matplotlib.colorbar.Colorbar or None
+    reach : matplotlib.contour.QuadContourSet or None
+        Boundary of the solved points (reach and joint limits).
+    singular : matplotlib.collections.PolyCollection or None
+        Hatched near-singular points: one square per grid cell flagged ``near_singular``.
+    arm_line, probe_marker : matplotlib.lines.Line2D or None
+        The arm at the probe point, projected into the region plane, and the probe point.
+    ax : matplotlib.axes.Axes
+    label : str
+        The colour-bar label.
+    """
+
+    mesh: object
+    colorbar: object
+    reach: object
+    singular: object
+    arm_line: object
+    probe_marker: object
+    ax: object
+    label: str
+    legend: object = None
+
+
+def arm_points(arm, q):
+    """World points of the arm drawn as a polyline: joint origins then the tool point, (n+1, 3)."""
+    origins, _ = arm.link_frames(q)
+    return np.vstack([origins, arm.tool_position(q)[None, :]])
+
+
+def draw_arm(ax, plane, points_m, **style):
+    """Draw arm points (n+1, 3) [m] projected into ``plane`` (links, joints, base). Line2D."""
+    xy = plane.project(points_m)
+    kw = dict(color=COLORS["arm"], linewidth=2.5, marker="o", markersize=5.5,
+              markerfacecolor=COLORS["joint"], markeredgecolor=COLORS["arm"], zorder=6,
+              solid_capstyle="round", label="arm at probe")
+    kw.update(style)
+    (line,) = ax.plot(xy[:, 0], xy[:, 1], **kw)
+    return line
+
+
+def _masked(values, ok):
+    return np.ma.masked_where(~ok | ~np.isfinite(values), values)
+
+
+def _probe_index(ds, probe):
+    """(iv, iu) of a probe: (u, v) in m (nearest grid point) or integer indices (iu, iv)."""
+    probe = tuple(probe)
+    if len(probe) != 2:
+        raise ValueError(f"`probe` must be (u, v) in m or integer indices (iu, iv); got {probe!r}")
+    if all(isinstance(p, (int, np.integer)) for p in probe):
+        iu, iv = (int(p) for p in probe)
+        nu, nv = ds.sizes["u_m"], ds.sizes["v_m"]
+        if not (-nu <= iu < nu and -nv <= iv < nv):
+            raise ValueError(f"`probe` indices {probe} are outside the grid ({nu} x {nv} points)")
+        return iv % nv, iu % nu
+    u, v = (float(p) for p in probe)
+    out = []
+    for name, value in (("v_m", v), ("u_m", u)):
+        coords = np.asarray(ds[name].values, float)
+        i = int(np.argmin(np.abs(coords - value)))
+        step = np.min(np.abs(np.diff(coords))) if coords.size > 1 else 0.0
+        if abs(coords[i] - value) > 0.5 * step + 1e-9:
+            raise ValueError(f"`probe` {name[0]} = {value} m is outside the grid "
+                             f"[{coords.min()}, {coords.max()}] m")
+        out.append(i)
+    return tuple(out)
+
+
+def _draw_probe(ax, ds, plane, arm, probe):
+    iv, iu = _probe_index(ds, probe)
+    status = int(ds["status"].transpose("v_m", "u_m").values[iv, iu])
+    u_m, v_m = float(ds["u_m"].values[iu]), float(ds["v_m"].values[iv])
+    if status != 0:
+        meanings = ds["status"].attrs.get("flag_meanings", "").split()
+        reason = meanings[status] if status < len(meanings) else str(status)
+        raise ValueError(f"`probe` point (u, v) = ({u_m:.4g}, {v_m:.4g}) m is not solved "
+                         f"(status {status}: {reason}); pick a solved point")
+    q = np.asarray(ds["q"].transpose("v_m", "u_m", "joint").values[iv, iu], float)
+    if q.shape != (arm.dof,):
+        raise ValueError(f"map has {q.size} joints but arm '{arm.name}' has {arm.dof}")
+    points = arm_points(arm, q)
+    target = np.array([float(ds[c].transpose("v_m", "u_m").values[iv, iu])
+                       for c in ("x_m", "y_m", "z_m")])
+    if np.linalg.norm(points[-1] - target) > 1e-3:
+        raise ValueError(f"arm '{arm.name}' at the map's q does not reach the map's point "
+                         f"{np.round(target, 4).tolist()} m (off by "
+                         f"{1000 * np.linalg.norm(points[-1] - target):.1f} mm): is it the map's "
+                         f"design ('{ds.attrs.get('design')}')?")
+    line = draw_arm(ax, plane, points)
+    xy = plane.project(target)
+    (marker,) = ax.plot([xy[0]], [xy[1]], linestyle="none", marker="X", markersize=9,
+                        color=COLORS["probe"], markeredgecolor="white", zorder=7,
+                        label=f"probe at ({xy[0]:.0f}, {xy[1]:.0f}) mm")
+    return line, marker
+
+
+def _reach_contour(ax, plane, ok):
+    if ok.all() or not ok.any():
+        return None
+    return ax.contour(plane.u_mm, plane.v_mm, ok.astype(float), levels=[0.5],
+                      colors=[COLORS["reach"]], linewidths=1.4, linestyles="solid", zorder=4)
+
+
+def _cells(plane, mask):
+    """Corner polygons (N, 4, 2) [mm] of the grid cells where ``mask`` (nv, nu) is True."""
+    iv, iu = np.nonzero(mask)
+    half_u = 0.5 * (np.min(np.abs(np.diff(plane.u_mm))) if plane.u_mm.size > 1 else 1.0)
+    half_v = 0.5 * (np.min(np.abs(np.diff(plane.v_mm))) if plane.v_mm.size > 1 else 1.0)
+    cu, cv = plane.u_mm[iu], plane.v_mm[iv]
+    du = np.array([-1.0, 1.0, 1.0, -1.0]) * half_u
+    dv = np.array([-1.0, -1.0, 1.0, 1.0]) * half_v
+    return np.stack([cu[:, None] + du, cv[:, None] + dv], axis=-1)
+
+
+def hatch_cells(ax, plane, mask, hatch, *, color=None, zorder=3, label=None):
+    """Hatch the grid cells where ``mask`` is True (one square per cell, no outline)."""
+    import matplotlib as mpl
+    from matplotlib.collections import PolyCollection
+
+    with mpl.rc_context({"hatch.color": color or COLORS["ink"]}):
+        coll = PolyCollection(_cells(plane, mask), facecolors="none", edgecolors="none",
+                              linewidths=0.0, hatch=hatch, zorder=zorder, label=label)
+        ax.add_collection(coll)
+    return coll
+
+
+def _singular_hatch(ax, plane, ds, ok):
+    if "near_singular" not in ds:
+        return None
+    flag = np.asarray(ds["near_singular"].transpose("v_m", "u_m").values, bool) & ok
+    if not flag.any():
+        return None
+    return hatch_cells(ax, plane, flag, "xxxx", label="near-singular")
+
+
+def _handles(reach, singular, extra=()):
+    """Legend handles for the reach boundary, the near-singular hatch and ``extra`` artists."""
+    from matplotlib.lines import Line2D
+    from matplotlib.patches import Patch
+
+    handles = [h for h in extra if h is not None]
+    if reach is not None:
+        handles.append(Line2D([], [], color=COLORS["reach"], linewidth=1.4,
+                              label="reach / joint-limit boundary"))
+    if singular is not None:
+        handles.append(Patch(facecolor="white", edgecolor=COLORS["ink"], hatch="xxxx",
+                             label="near-singular"))
+    return handles
+
+
+def _frame(ax, plane, title):
+    ax.set_xlabel(plane.u_label)
+    ax.set_ylabel(plane.v_label)
+    ax.set_aspect("equal", adjustable="box")
+    if title:
+        ax.set_title(title)
+
+
+def plot_metric_map(ds, metric="mass_ratio", *, ax=None, arm=None, probe=None, select=None,
+                    cmap=None, norm=None, vmin=None, vmax=None, colorbar=True, title=None,
+                    legend=True, **style):
+    """Draw one metric of a map over its region plane.
+
+    The metric is a ``pcolormesh`` over the region's grid in screen units (positions
+    in mm, angles in deg), masked where the point is not solved (``status != 0``) or
+    not finite. The boundary of the solved points (reach and joint limits) is a
+    contour line, near-singular points (``near_singular``) are hatched, and the colour
+    bar is labelled from the variable's attributes, e.g. "min/max apparent mass ratio
+    [-]". With ``arm`` and ``probe`` the arm is drawn at that point: its joint origins
+    and tool point projected into the region plane.
+
+    Parameters
+    ----------
+    ds : xarray.Dataset
+        A map from :func:`inertia_review.metric_map` over a rectangle (or a box map cut
+        to one layer with ``ds.isel(w_m=i)``).
+    metric : str, default "mass_ratio"
+        Name of a map variable.
+    ax : matplotlib.axes.Axes, optional
+        Axes to draw into; a new figure is made only when None.
+    arm : Arm, optional
+        The map's design, to draw at ``probe``.
+    probe : (float, float) or (int, int), optional
+        Grid point: (u, v) in m (the map's ``u_m``/``v_m`` coordinates, nearest point) or
+        integer indices (iu, iv).
+    select : dict, optional
+        Picks one entry of the extra dims, e.g. ``{"joint": "elbow"}`` (label) or
+        ``{"principal": 0}`` (position).
+    cmap, norm, vmin, vmax : optional
+        Colour scale (default: cividis over the solved values).
+    colorbar, legend : bool, default True
+    title : str, optional
+        Default: the design name.
+    **style
+        Passed to ``pcolormesh``.
+
+    Returns
+    -------
+    MapArtists
+    """
+    plane = map_plane(ds)
+    values, da = grid_values(ds, metric, select)
+    label, factor = variable_label(da, ds=ds, selection=select)
+    ok = solved_mask(ds)
+    with _style.plot_style():
+        layout = _style.Layout(ax, equal=True)
+        ax = layout.ax
+        if norm is None and (vmin is not None or vmax is not None):
+            import matplotlib.colors as mcolors
+            norm = mcolors.Normalize(vmin=vmin, vmax=vmax)
+        mesh = ax.pcolormesh(plane.u_mm, plane.v_mm, _masked(values * factor, ok),
+                             shading="nearest", cmap=cmap or _style.CMAP_SEQUENTIAL, norm=norm,
+                             rasterized=True, zorder=1, **style)
+        reach = _reach_contour(ax, plane, ok)
+        singular = _singular_hatch(ax, plane, ds, ok)
+        arm_line = marker = None
+        if probe is not None:
+            if arm is None:
+                raise ValueError("`probe` needs `arm` (the map's design) to draw the arm")
+            arm_line, marker = _draw_probe(ax, ds, plane, arm, probe)
+        _frame(ax, plane, ds.attrs.get("design", "") if title is None else title)
+        cbar = layout.figure.colorbar(mesh, ax=ax, label=label, shrink=0.9) if colorbar else None
+        leg = layout.legend(_handles(reach, singular, (arm_line, marker))) if legend else None
+        layout.finish()
+    return MapArtists(mesh, cbar, reach, singular, arm_line, marker, ax, label, leg)
+
+
+@dataclass
+class SmallMultiples:
+    """Artists of :func:`plot_small_multiples`: one :class:`MapArtists` per map, one colour bar."""
+
+    maps: list
+    colorbar: object
+    axes: list
+    figure: object
+    norm: object = field(default=None)
+
+    @property
+    def meshes(self):
+        return [m.mesh for m in self.maps]
+
+
+def plot_small_multiples(maps, metric="mass_ratio", *, axes=None, select=None, cmap=None,
+                         vmin=None, vmax=None, ncols=None, titles=None):
+    """Several designs side by side on one shared colour scale with one colour bar.
+
+    Parameters
+    ----------
+    maps : sequence of xarray.Dataset
+        Maps from :func:`inertia_review.metric_map` (any regions).
+    metric : str, default "mass_ratio"
+    axes : sequence of Axes, optional
+        One per map (e.g. from ``plt.subplots``); a new figure when None.
+    select, cmap : optional
+        As in :func:`plot_metric_map`.
+    vmin, vmax : float, optional
+        Shared colour limits in screen units (default: over every map's solved values).
+    ncols : int, optional
+        Columns of a new figure (default: all maps in one row, at most 4 per row).
+    titles : sequence of str, optional
+        Default: the design names (``ds.attrs["design"]``).
+
+    Returns
+    -------
+    SmallMultiples
+    """
+    import matplotlib.colors as mcolors
+
+    maps = list(maps)
+    if not maps:
+        raise ValueError("`maps` must hold at least one map")
+    labels, finite = set(), []
+    for ds in maps:
+        values, da = grid_values(ds, metric, select)
+        label, factor = variable_label(da, ds=ds, selection=select)
+        labels.add(label)
+        v = values[solved_mask(ds)] * factor
+        finite.append(v[np.isfinite(v)])
+    if len(labels) > 1:
+        raise ValueError(f"maps disagree on the metric's units or name: {sorted(labels)}")
+    allv = np.concatenate(finite) if finite else np.array([])
+    lo = vmin if vmin is not None else (float(allv.min()) if allv.size else 0.0)
+    hi = vmax if vmax is not None else (float(allv.max()) if allv.size else 1.0)
+    norm = mcolors.Normalize(vmin=lo, vmax=hi)
+    with _style.plot_style():
+        notes, own = None, False
+        if axes is None:
+            import matplotlib.pyplot as plt
+
+            ncols = ncols or min(4, len(maps))
+            nrows = -(-len(maps) // ncols)
+            fig = plt.figure(figsize=(3.4 * ncols + 1.3, 3.6 * nrows + 0.8), layout="constrained")
+            grid = fig.add_gridspec(nrows + 1, ncols, height_ratios=[1.0] * nrows + [0.06])
+            axes = []
+            for i in range(len(maps)):
+                share = axes[0] if axes else None
+                axes.append(fig.add_subplot(grid[i // ncols, i % ncols], sharex=share,
+                                            sharey=share))
+            own = True
+            notes = fig.add_subplot(grid[nrows, :])
+            notes.set_axis_off()
+        else:
+            axes = list(np.ravel(np.asarray(axes, dtype=object)))
+            if len(axes) != len(maps):
+                raise ValueError(f"`axes` must hold one Axes per map: {len(maps)} maps, "
+                                 f"{len(axes)} axes")
+            fig = axes[0].figure
+        titles = titles or [ds.attrs.get("design", f"map {i}") for i, ds in enumerate(maps)]
+        drawn = [plot_metric_map(ds, metric, ax=a, select=select, cmap=cmap, norm=norm,
+                                 colorbar=False, title=t, legend=False)
+                 for ds, a, t in zip(maps, axes, titles)]
+        if own:
+            for a in axes:
+                a.label_outer()
+        cbar = fig.colorbar(drawn[0].mesh, ax=axes, label=labels.pop(), shrink=0.85)
+        reach = next((d.reach for d in drawn if d.reach is not None), None)
+        singular = next((d.singular for d in drawn if d.singular is not None), None)
+        handles = _handles(reach, singular)
+        if notes is not None:
+            if handles:
+                notes.legend(handles=handles, loc="upper left", ncols=len(handles),
+                             frameon=False, borderaxespad=0.0)
+            else:
+                notes.set_visible(False)
+        elif handles:
+            axes[0].legend(handles=handles, loc="best", framealpha=0.9)
+    return SmallMultiples(drawn, cbar, axes, fig, norm)
+
+
+def plot_difference_map(ds_b, ds_a, metric="mass_ratio", *, ax=None, select=None, cmap=None,
+                        limit=None, title=None):
+    """Design B minus design A on a diverging colour scale centred at zero.
+
+    Drawn only where both maps are solved and finite; the colour limits are symmetric
+    (``-limit, +limit``, default the largest absolute difference), so zero is the
+    centre colour. Both maps must share the same grid (same region).
+
+    Returns
+    -------
+    MapArtists
+        ``mesh`` holds B - A in screen units.
+    """
+    import matplotlib.colors as mcolors
+
+    plane_b, plane_a = map_plane(ds_b), map_plane(ds_a)
+    same = (plane_a.u_mm.shape == plane_b.u_mm.shape and plane_a.v_mm.shape == plane_b.v_mm.shape
+            and np.allclose(plane_a.u_mm, plane_b.u_mm, atol=1e-6)
+            and np.allclose(plane_a.v_mm, plane_b.v_mm, atol=1e-6)
+            and np.allclose(plane_a.axes, plane_b.axes, atol=1e-12))
+    if not same:
+        raise ValueError("maps of different grids cannot be subtracted: make both with the "
+                         "same region")
+    vb, da_b = grid_values(ds_b, metric, select)
+    va, _ = grid_values(ds_a, metric, select)
+    name_b, name_a = ds_b.attrs.get("design", "B"), ds_a.attrs.get("design", "A")
+    label, factor = variable_label(da_b, ds=ds_b, selection=select, prefix="Δ ")
+    ok = solved_mask(ds_a) & solved_mask(ds_b)
+    diff = (vb - va) * factor
+    both = ok & np.isfinite(diff)
+    if limit is None:
+        limit = float(np.max(np.abs(diff[both]))) if both.any() else 1.0
+        limit = limit if limit > 0.0 else 1.0
+    norm = mcolors.Normalize(vmin=-float(limit), vmax=float(limit))
+    with _style.plot_style():
+        layout = _style.Layout(ax, equal=True)
+        ax = layout.ax
+        mesh = ax.pcolormesh(plane_b.u_mm, plane_b.v_mm, _masked(diff, both), shading="nearest",
+                             cmap=cmap or _style.CMAP_DIVERGING, norm=norm, rasterized=True,
+                             zorder=1)
+        reach = _reach_contour(ax, plane_b, ok)
+        _frame(ax, plane_b, f"Δ = {name_b} − {name_a}" if title is None else title)
+        cbar = layout.figure.colorbar(mesh, ax=ax, label=label, shrink=0.9)
+        cbar.ax.axhline(0.0, color=COLORS["ink"], linewidth=0.8)
+        leg = layout.legend(_handles(reach, None))
+        layout.finish()
+    return MapArtists(mesh, cbar, reach, None, None, None, ax, cbar.ax.get_ylabel(), leg)
+
+
+@dataclass
+class HeadroomArtists:
+    """Artists of :func:`plot_headroom_map`."""
+
+    mesh: object
+    colorbar: object
+    zones: dict          # joint name -> PolyCollection: hatched cells where it limits
+    boundaries: object   # contour lines between limiting-joint zones (or None)
+    rating_line: object  # contour at zero headroom (or None)
+    reach: object
+    caution: object      # the caution Text
+    legend: object
+    ax: object
+
+
+def plot_headroom_map(ds, *, ax=None, cmap=None, limits=(-1.0, 1.0), title=None):
+    """Torque headroom over the region and which joint limits it, with the caution text.
+
+    The colour is ``min_margin`` = min over rated joints of 1 - utilisation (1: no
+    load, 0: a joint at its peak rating, negative: over it) on a diverging scale
+    with fixed limits symmetric about zero (default -1 to 1, so designs compare);
+    the zero line is drawn. Each joint's zone (where it has the least headroom) is
+    hatched with its own pattern, with a legend of joint names and lines between
+    the zones. The caution text of the map (``ds.attrs["caution"]``) is placed under
+    the Axes.
+
+    Returns
+    -------
+    HeadroomArtists
+    """
+    import matplotlib as mpl
+    import matplotlib.colors as mcolors
+    from matplotlib.lines import Line2D
+    from matplotlib.patches import Patch
+
+    if "min_margin" not in ds:
+        raise ValueError(f"map of design '{ds.attrs.get('design', '?')}' has no torque headroom "
+                         "(no joint has a peak_torque_Nm rating)")
+    plane = map_plane(ds)
+    values, da = grid_values(ds, "min_margin")
+    ok = solved_mask(ds)
+    joint_index = np.asarray(ds["limiting_joint"].transpose("v_m", "u_m").values, int)
+    names = [str(n) for n in ds["joint"].values]
+    label = variable_label(da, ds=ds)[0].replace(" [", ": 1 − utilisation [", 1)
+    lo, hi = (float(x) for x in limits)
+    if not lo < 0.0 < hi:
+        raise ValueError(f"`limits` must straddle zero (lo < 0 < hi); got {limits}")
+    caution = ds.attrs.get("caution", "CAUTION: design-stage estimates, not a validation.")
+    with _style.plot_style():
+        layout = _style.Layout(ax, equal=True)
+        ax = layout.ax
+        valid = ok & np.isfinite(values)
+        mesh = ax.pcolormesh(plane.u_mm, plane.v_mm, _masked(values, ok), shading="nearest",
+                             cmap=cmap or _style.CMAP_DIVERGING,
+                             norm=mcolors.TwoSlopeNorm(vcenter=0.0, vmin=lo, vmax=hi),
+                             rasterized=True, zorder=1)
+        zones, handles = {}, []
+        present = [j for j in range(len(names)) if np.any(valid & (joint_index == j))]
+        for j in present:
+            zone = valid & (joint_index == j)
+            hatch = HATCHES[j % len(HATCHES)]
+            zones[names[j]] = hatch_cells(ax, plane, zone, hatch, color=COLORS["zone_hatch"],
+                                          zorder=2, label=f"{names[j]} limits")
+            handles.append(Patch(facecolor=mpl.colormaps[_style.CMAP_DIVERGING](0.85),
+                                 edgecolor=COLORS["zone_hatch"], hatch=hatch,
+                                 label=f"{names[j]} limits"))
+        boundaries = None
+        if len(present) > 1:
+            field_ = np.ma.masked_where(~valid, joint_index.astype(float))
+            levels = [j + 0.5 for j in range(min(present), max(present))]
+            boundaries = ax.contour(plane.u_mm, plane.v_mm, field_, levels=levels,
+                                    colors=[COLORS["ink"]], linewidths=1.0, zorder=4)
+        rating = None
+        finite = values[valid]
+        if finite.size and finite.min() < 0.0 < finite.max():
+            rating = ax.contour(plane.u_mm, plane.v_mm, np.ma.masked_where(~valid, values),
+                                levels=[0.0], colors=[COLORS["ink"]], linewidths=2.2,
+                                linestyles=[(0, (5, 2))], zorder=5)
+            handles.append(Line2D([], [], color=COLORS["ink"], linewidth=2.2,
+                                  linestyle=(0, (5, 2)), label="peak rating reached (headroom 0)"))
+        reach = _reach_contour(ax, plane, ok)
+        if reach is not None:
+            handles.append(Line2D([], [], color=COLORS["reach"], linewidth=1.4,
+                                  label="reach / joint-limit boundary"))
+        accel = float(ds.attrs.get("accel_mps2", 0.0))
+        _frame(ax, plane, (f"{ds.attrs.get('design', '')}: torque headroom\n"
+                           f"with {accel:g} m/s² tool acceleration in any direction")
+               if title is None else title)
+        cbar = layout.figure.colorbar(mesh, ax=ax, label=label, shrink=0.9, extend="both")
+        cbar.ax.axhline(0.0, color=COLORS["ink"], linewidth=0.8)
+        leg = layout.legend(handles)
+        text = layout.caution(caution)
+        layout.finish()
+    return HeadroomArtists(mesh, cbar, zones, boundaries, rating, reach, text, leg, ax)

@@ -1,0 +1,26 @@
+"""Review widgets (ipywidgets): state in traitlets, computation through the core.
+
+DesignControls
+    sliders bound to design parameters, reset to baseline, errors shown in place
+MapPanel
+    a chosen metric over the task region, updated in place, with a scores readout
+PointProbe
+    the arm's pose, apparent-mass ellipse, principal masses and torque bars at a point
+ComparisonBoard
+    2 to 4 alternatives on shared colour scales, scores (best marked), a difference map
+SweepExplorer
+    parameters and ranges, a run with a progress bar, the trade-off plot, send to board
+ReviewApp, snapshot
+    the quick-review layout; static images and text for saved notebooks
+"""
+
+from ._board import ComparisonBoard, scores_table_html
+from ._controls import DesignControls, default_parameters
+from ._map_panel import MAP_METRICS, MapPanel, scores_html
+from ._probe import PointProbe
+from ._review import ReviewApp, snapshot
+from ._sweep_explorer import SweepExplorer
+
+__all__ = ["DesignControls", "MapPanel", "PointProbe", "ComparisonBoard", "SweepExplorer",
+           "ReviewApp", "snapshot", "default_parameters", "MAP_METRICS", "scores_html",
+           "scores_table_html"]

@@ -1,0 +1,187 @@
+"""Live map panel: one metric over the task region, updated in place (private)."""
+
+import html
+
+import ipywidgets as widgets
+import numpy as np
+import traitlets
+
+from .._arm import Arm
+from .._maps import METRIC_ATTRS, metric_map
+from .._scores import design_scores
+from ..plots import _map_plots, _style
+from ..plots._labels import variable_label
+from ..plots._plane import grid_values, map_plane, solved_mask
+from ._render import new_figure, png_bytes
+
+__all__ = ["MapPanel", "MAP_METRICS", "scores_html"]
+
+#: metrics offered in the panel's list (scalar per point, or per joint via select)
+MAP_METRICS = ("mass_ratio", "isotropy", "min_margin", "accel_capability", "manipulability",
+               "mass_along_approach")
+
+_SCORE_LABELS = (("reachable_fraction", "reachable", "{:.1%}"), ("gci", "GCI", "{:.3f}"),
+                 ("isotropy_worst", "isotropy worst", "{:.3f}"),
+                 ("mass_ratio_worst", "mass ratio worst", "{:.3f}"),
+                 ("headroom_worst", "torque headroom worst", "{:+.3f}"),
+                 ("headroom_worst_joint", "limiting joint", "{}"),
+                 ("accel_capability_min", "accel. capability min [m/s^2]", "{:.2f}"),
+                 ("moving_mass_kg", "moving mass [kg]", "{:.3f}"))
+
+
+def scores_html(scores):
+    """A small HTML readout of a design's scores (with the torque caution)."""
+    cells = []
+    for key, label, fmt in _SCORE_LABELS:
+        value = scores.get(key)
+        text = "n/a" if value is None or (isinstance(value, float) and np.isnan(value)) \
+            else fmt.format(value)
+        cells.append(f"<tr><td>{label}</td><td class='ir-score' data-score='{key}' "
+                     f"style='text-align:right;padding-left:1em'><b>{html.escape(text)}</b></td></tr>")
+    return ("<table class='ir-scores'>" + "".join(cells) + "</table>"
+            "<div style='font-size:85%;color:#555;max-width:38em'>Torque headroom and acceleration "
+            "are design-stage estimates from a rigid-body model, not a validation; the applicable "
+            "standards, local regulations and licensed engineering practice decide.</div>")
+
+
+class MapPanel(widgets.VBox):
+    """A chosen metric over the task region for the current design, updated in place.
+
+    Traits: ``arm`` (set it, e.g. from :class:`DesignControls`, to recompute), ``metric``,
+    ``probe_index`` ((iv, iu) grid indices of the probed point, or None), ``scores``
+    (read-only readout) and ``error``. The figure is made once; changes update the mesh,
+    the reach boundary and the hatching, then re-render the image.
+    """
+
+    arm = traitlets.Instance(Arm, help="design shown")
+    metric = traitlets.Unicode("mass_ratio", help="map variable shown")
+    probe_index = traitlets.Any(None, help="(iv, iu) grid indices of the probed point")
+    scores = traitlets.Dict(help="scores of the current map")
+    error = traitlets.Unicode("", help="last computation error, '' when fine")
+
+    def __init__(self, arm, region, *, metric="mass_ratio", map_options=None,
+                 size_in=(6.4, 4.8), **kwargs):
+        self._region = region
+        self._map_options = dict(map_options or {})
+        self.figure = new_figure(*size_in)
+        self.ax = self.figure.add_subplot()
+        self.image = widgets.Image(format="png", layout=widgets.Layout(width=f"{size_in[0]}in"))
+        self.metric_choice = widgets.Dropdown(options=[(METRIC_ATTRS[m][1], m) for m in MAP_METRICS],
+                                              value=metric, description="metric")
+        self.readout = widgets.HTML()
+        self.message = widgets.HTML()
+        self.ds = None
+        self._artists = None
+        super().__init__(children=[self.metric_choice, self.image, self.readout, self.message],
+                         **kwargs)
+        self.metric = metric
+        self.arm = arm
+        self._recompute()
+        self.observe(self._on_arm_change, names="arm")
+        self.observe(self._on_metric_change, names="metric")
+        self.observe(self._on_probe_change, names="probe_index")
+        widgets.link((self.metric_choice, "value"), (self, "metric"))
+
+    # ------------------------------------------------------------------ reactions
+    def _on_arm_change(self, change):
+        self._recompute()
+
+    def _on_metric_change(self, change):
+        if self.ds is not None:
+            self._redraw()
+
+    def _on_probe_change(self, change):
+        if self.ds is not None:
+            self._redraw()
+
+    def _recompute(self):
+        try:
+            ds = metric_map(self.arm, self._region, **self._map_options)
+        except (ValueError, KeyError) as exc:
+            self._show_error(exc)
+            return
+        if self.metric not in ds:
+            self._show_error(KeyError(f"metric '{self.metric}' is not in this map"))
+            return
+        self.ds = ds
+        self.error = ""
+        self.message.value = ""
+        self.scores = design_scores(ds)
+        self.readout.value = scores_html(self.scores)
+        self._redraw()
+
+    def _show_error(self, exc):
+        self.error = f"{type(exc).__name__}: {exc}"
+        self.message.value = ("<div style='color:#b00020' class='ir-error'><b>Not updated (the "
+                              "last valid map stays on screen):</b> " + html.escape(str(exc)) +
+                              "</div>")
+
+    # ------------------------------------------------------------------ drawing
+    def _redraw(self):
+        ds = self.ds
+        if self._artists is None or self._artists.label_metric != self.metric:
+            self._draw_first()
+        else:
+            self._update_in_place()
+        self.image.value = png_bytes(self.figure)
+
+    def _draw_first(self):
+        self.figure.clear()
+        self.ax = self.figure.add_subplot()
+        artists = _map_plots.plot_metric_map(self.ds, self.metric, ax=self.ax, legend=True)
+        artists.label_metric = self.metric
+        artists.probe_line = None
+        self._artists = artists
+        self._draw_probe()
+
+    def _update_in_place(self):
+        ds, art = self.ds, self._artists
+        plane = map_plane(ds)
+        values, da = grid_values(ds, self.metric, None)
+        label, factor = variable_label(da, ds=ds)
+        ok = solved_mask(ds)
+        shown = _map_plots._masked(values * factor, ok)
+        art.mesh.set_array(shown)
+        finite = shown.compressed()
+        if finite.size:
+            low, high = float(finite.min()), float(finite.max())
+            art.mesh.set_clim(low, high if high > low else low + 1e-12)
+        with _style.plot_style():
+            for old in (art.reach, art.singular):
+                if old is not None:
+                    old.remove()
+            art.reach = _map_plots._reach_contour(self.ax, plane, ok)
+            art.singular = _map_plots._singular_hatch(self.ax, plane, ds, ok)
+        self.ax.set_title(ds.attrs.get("design", ""))
+        self._draw_probe()
+
+    def _draw_probe(self):
+        art = self._artists
+        if art.probe_line is not None:
+            art.probe_line.remove()
+            art.probe_line = None
+        if self.probe_index is None:
+            return
+        iv, iu = self.probe_index
+        ds = self.ds
+        if ds["status"].values[iv, iu] != 0:
+            return
+        q = ds["q"].values[iv, iu]
+        plane = map_plane(ds)
+        with _style.plot_style():
+            art.probe_line = _map_plots.draw_arm(self.ax, plane, _map_plots.arm_points(self.arm, q))
+
+    # ------------------------------------------------------------------ probing
+    def index_of(self, u_m, v_m):
+        """Nearest grid indices (iv, iu) of region coordinates (u, v) [m]."""
+        iu = int(np.argmin(np.abs(self.ds["u_m"].values - u_m)))
+        iv = int(np.argmin(np.abs(self.ds["v_m"].values - v_m)))
+        return iv, iu
+
+    def index_at_pixel(self, x_px, y_px, width_px, height_px):
+        """Grid indices under a click at (x, y) pixels of the displayed image (top-left origin)."""
+        fig_w, fig_h = self.figure.canvas.get_width_height()
+        x = x_px * fig_w / width_px
+        y = fig_h - y_px * fig_h / height_px
+        u_mm, v_mm = self.ax.transData.inverted().transform((x, y))
+        return self.index_of(u_mm / 1000.0, v_mm / 1000.0)

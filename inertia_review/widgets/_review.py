@@ -1,0 +1,64 @@
+"""The quick-review app and static snapshots for saved notebooks (private)."""
+
+import ipywidgets as widgets
+
+from .._baselines import baseline_table
+from .._cautions import TORQUE_CAUTION
+from ._controls import DesignControls
+from ._map_panel import MapPanel
+from ._probe import PointProbe
+from ._render import png_bytes
+
+__all__ = ["ReviewApp", "snapshot"]
+
+
+class ReviewApp(widgets.VBox):
+    """Design controls, a live map and a point probe for one design, wired together.
+
+    ``app.controls.arm`` feeds ``app.panel.arm``; the probe follows the panel.
+    """
+
+    def __init__(self, arm, region=None, *, parameters=None, metric="mass_ratio",
+                 map_options=None, **kwargs):
+        region = region if region is not None else arm.task
+        if region is None:
+            raise ValueError(f"design '{arm.name}' has no [task] region: pass `region`")
+        self.controls = DesignControls(arm, parameters)
+        self.panel = MapPanel(arm, region, metric=metric, map_options=map_options)
+        self.probe = PointProbe(self.panel)
+        widgets.dlink((self.controls, "arm"), (self.panel, "arm"))
+        caution = widgets.HTML(f"<div style='font-size:85%;color:#555;max-width:60em'>"
+                               f"{TORQUE_CAUTION}</div>")
+        super().__init__(children=[widgets.HBox([self.controls, self.panel]), self.probe, caution],
+                         **kwargs)
+
+
+def _images_of(widget):
+    if isinstance(widget, widgets.Image):
+        return [widget.value] if widget.value else []
+    out = []
+    for child in getattr(widget, "children", ()):
+        out.extend(_images_of(child))
+    return out
+
+
+def snapshot(widget, *, title=None):
+    """Write the widget's current images and a text table into the cell's output.
+
+    A saved notebook then shows the state without a running kernel (on GitHub, in an
+    HTML export): PNG images, and for map panels and review apps the scores as text.
+    """
+    from IPython.display import Image, Markdown, display
+
+    if title:
+        display(Markdown(f"**{title}**"))
+    for data in _images_of(widget):
+        display(Image(data=data, format="png"))
+    panel = getattr(widget, "panel", widget)
+    if getattr(panel, "ds", None) is not None:
+        print(baseline_table([panel.ds]))
+    board_maps = getattr(widget, "maps", None)
+    if board_maps:
+        print(baseline_table(board_maps))
+    print(TORQUE_CAUTION)
+    return None

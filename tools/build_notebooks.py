@@ -1,0 +1,152 @@
+"""Write the review notebooks' cells (sources only); execute them with
+``inertia-review rebaseline notebooks/NAME.ipynb`` to store their outputs.
+
+Kept in the repository so that the notebooks' text has one editable source.
+"""
+
+from pathlib import Path
+
+import nbformat
+from nbformat.v4 import new_code_cell, new_markdown_cell, new_notebook
+
+HERE = Path(__file__).resolve().parents[1] / "notebooks"
+
+CAUTION_MD = (
+    "> **Caution.** Torque margins and acceleration capabilities below are design-stage "
+    "estimates from an idealised rigid-body model, not a validation. The applicable standards "
+    "(ISO 12100, ISO 10218-1/-2), local regulations and qualified, licensed engineering "
+    "practice decide.")
+
+SCENARIO_MD = (
+    "*All designs here are **invented demo data** for a fictional scenario: \"Kestrel Optics\" "
+    "wants a bench-top arm that lifts lens blanks (up to 0.3 kg with their carrier) from a tray "
+    "into a polishing fixture, working in a vertical plane beside its base. None of the numbers "
+    "describe a real product.*")
+
+
+def quick_review():
+    return [
+        new_markdown_cell("# Quick review: kestrel_a\n\n" + SCENARIO_MD + "\n\n"
+                          "This notebook reviews one candidate arm over its task region: how heavy "
+                          "the tool feels in each direction (apparent mass), how evenly it moves "
+                          "(isotropy), and the torque headroom against gravity plus the required "
+                          "tool acceleration.\n\n" + CAUTION_MD),
+        new_code_cell("import numpy as np\nimport inertia_review as ir\nfrom inertia_review import plots\n"
+                      "from inertia_review.widgets import ReviewApp, snapshot\n\n"
+                      "arm = ir.load_design(\"../designs/kestrel_a.toml\")\narm"),
+        new_markdown_cell("## The design and its task\nThe design file carries its task: a "
+                          "rectangle in a vertical plane 50 mm beside the base, a required tool "
+                          "acceleration of 2 m/s² in any direction, and a downward approach."),
+        new_code_cell("# NBVAL_CHECK_OUTPUT\ntask = arm.task\n"
+                      "print(f\"joints: {', '.join(arm.joint_names)}; moving mass {arm.moving_mass:.3f} kg\")\n"
+                      "print(f\"region: {task.region.kind}, centre {np.round(np.multiply(task.region.center_m, 1000)).tolist()} mm, \"\n"
+                      "      f\"size {np.round(np.multiply(task.region.size_m, 1000)).tolist()} mm, spacing {task.region.spacing_m * 1000:.0f} mm\")\n"
+                      "print(f\"required acceleration {task.accel_mps2:g} m/s^2, approach {list(task.approach)}\")"),
+        new_markdown_cell("## Maps over the task region\nOne batched pass solves every grid point "
+                          "for a configuration (elbow up) and evaluates every metric there."),
+        new_code_cell("ds = ir.metric_map(arm, task)\n"
+                      "plots.plot_metric_map(ds, \"mass_ratio\", arm=arm, probe=(0.0, 0.0));"),
+        new_code_cell("plots.plot_headroom_map(ds);"),
+        new_code_cell("plots.plot_ellipse_field(ds, arm, every=6);"),
+        new_markdown_cell("## Accepted scores\nThe printed table below is the accepted baseline "
+                          "of this design: nbval compares it on every run."),
+        new_code_cell("# NBVAL_CHECK_OUTPUT\nprint(ir.baseline_table([ds]))"),
+        new_markdown_cell("## Live review\nMove a slider (values apply on release): the map, the "
+                          "scores and the probe follow. Click on the map, or type u and v, to "
+                          "probe a point. An invalid design shows its error and keeps the last "
+                          "valid map."),
+        new_code_cell("app = ReviewApp(arm)\napp"),
+        new_markdown_cell("A static snapshot of the live state, for readers without a kernel:"),
+        new_code_cell("# NBVAL_IGNORE_OUTPUT\nsnapshot(app, title=\"kestrel_a, baseline settings\")"),
+    ]
+
+
+def compare():
+    return [
+        new_markdown_cell("# Comparing three alternatives to kestrel_a\n\n" + SCENARIO_MD + "\n\n"
+                          "- **kestrel_b**: other link proportions (upper arm 280 mm, forearm 370 mm);\n"
+                          "- **kestrel_c**: the elbow motor moved down to the shoulder (belt drive);\n"
+                          "- **kestrel_wall**: arm A on a wall bracket tilted so its first axis is no longer vertical.\n\n"
+                          "All are scored on kestrel_a's task region.\n\n" + CAUTION_MD),
+        new_code_cell("import inertia_review as ir\nfrom inertia_review import plots\n"
+                      "from inertia_review.widgets import ComparisonBoard, snapshot\n\n"
+                      "names = [\"kestrel_a\", \"kestrel_b\", \"kestrel_c\", \"kestrel_wall\"]\n"
+                      "arms = [ir.load_design(f\"../designs/{n}.toml\") for n in names]\n"
+                      "task = arms[0].task\nmaps = [ir.metric_map(a, task) for a in arms]"),
+        new_code_cell("# NBVAL_CHECK_OUTPUT\nprint(ir.baseline_table(maps))"),
+        new_code_cell("ir.scores_table(maps).round(4)"),
+        new_markdown_cell("## Side by side, one colour scale"),
+        new_code_cell("plots.plot_small_multiples(maps, \"mass_ratio\");"),
+        new_code_cell("plots.plot_small_multiples(maps, \"min_margin\");"),
+        new_markdown_cell("## Differences against the baseline (B minus A)"),
+        new_code_cell("for other in maps[1:]:\n    plots.plot_difference_map(other, maps[0], \"mass_ratio\")"),
+        new_markdown_cell("## The board\nTwo to four alternatives on shared colour scales; the best "
+                          "value of each score is marked."),
+        new_code_cell("board = ComparisonBoard(arms, task)\nboard"),
+        new_code_cell("# NBVAL_IGNORE_OUTPUT\nsnapshot(board, title=\"comparison board\")"),
+    ]
+
+
+def sweep_study():
+    return [
+        new_markdown_cell("# Sweep study: link-length ratio and mount tilt\n\n" + SCENARIO_MD + "\n\n"
+                          "The reach of the last two links is kept at 650 mm while the "
+                          "forearm-to-upper-arm ratio varies; the mount pitches forward by 0 to "
+                          "30 degrees. Each variant is scored on kestrel_a's task region (20 mm "
+                          "grid).\n\n" + CAUTION_MD),
+        new_code_cell("import numpy as np\nimport inertia_review as ir\nfrom inertia_review import plots\n"
+                      "from inertia_review.widgets import SweepExplorer, snapshot\n\n"
+                      "arm = ir.load_design(\"../designs/kestrel_a.toml\")\n"
+                      "r = arm.task.region\n"
+                      "region = ir.Rectangle(r.center_m, r.axes, r.size_m, 0.02)\n"
+                      "sweep = ir.Sweep(arm, vary={\"derived.link_ratio\": np.linspace(0.6, 1.4, 5),\n"
+                      "                            \"mount.rpy_deg[1]\": [0.0, 10.0, 20.0, 30.0]},\n"
+                      "                 region=region, accel_mps2=arm.task.accel_mps2, progress=False).run()"),
+        new_code_cell("# NBVAL_CHECK_OUTPUT\nres = sweep.results_\n"
+                      "for score in (\"gci\", \"mass_ratio_worst\", \"headroom_worst\"):\n"
+                      "    print(score)\n"
+                      "    print(np.array2string(res[score].values, precision=4, floatmode=\"fixed\"))\n"
+                      "best, value = sweep.best(\"gci\")\n"
+                      "print(\"best by gci:\", {k: round(v, 4) for k, v in best.items()}, round(value, 4))"),
+        new_code_cell("plots.plot_tradeoff(res, \"gci\");"),
+        new_code_cell("plots.plot_tradeoff(res, \"headroom_worst\");"),
+        new_markdown_cell("## Explore interactively\nChoose parameters and ranges (in mm, deg or kg), "
+                          "run, and read the trade-off."),
+        new_code_cell("explorer = SweepExplorer(arm, region)\nexplorer"),
+    ]
+
+
+def baselines():
+    return [
+        new_markdown_cell("# Accepted design baselines\n\nEvery demo design (invented data) scored on "
+                          "its own task region. The printed tables are compared by nbval on every "
+                          "test run: a change in any accepted design's metrics fails the run. "
+                          "After a reviewed, intended change, re-accept with\n\n"
+                          "```\ninertia-review rebaseline notebooks/04_baselines.ipynb\n```\n\n" + CAUTION_MD),
+        new_code_cell("import inertia_review as ir\n\n"
+                      "names = [\"kestrel_a\", \"kestrel_b\", \"kestrel_c\", \"kestrel_wall\", \"sorter_planar\"]\n"
+                      "arms = {n: ir.load_design(f\"../designs/{n}.toml\") for n in names}"),
+        new_code_cell("# NBVAL_CHECK_OUTPUT\nfor name, arm in arms.items():\n"
+                      "    print(ir.baseline_table([ir.metric_map(arm, arm.task)]))\n    print()"),
+        new_code_cell("# NBVAL_CHECK_OUTPUT\n# joint-range summary (seeded sampling of the joint limits)\n"
+                      "from inertia_review._summary import joint_range_summary\n"
+                      "for name, arm in arms.items():\n"
+                      "    row = joint_range_summary(arm, samples=4000, accel_mps2=2.0)\n"
+                      "    print(f\"{name:14s} reach {row['reach_mm']:.1f} mm  isotropy mean {row['isotropy_mean']:.4f}  \"\n"
+                      "          f\"mass ratio mean {row['mass_ratio_mean']:.4f}  static margin {row['static_margin']:+.4f}\")"),
+    ]
+
+
+def main():
+    books = {"01_quick_review.ipynb": quick_review(), "02_compare_alternatives.ipynb": compare(),
+             "03_sweep_study.ipynb": sweep_study(), "04_baselines.ipynb": baselines()}
+    for name, cells in books.items():
+        nb = new_notebook(cells=cells, metadata={
+            "kernelspec": {"display_name": "Python 3", "language": "python", "name": "python3"},
+            "language_info": {"name": "python"}})
+        nbformat.write(nb, HERE / name)
+        print("wrote", HERE / name)
+
+
+if __name__ == "__main__":
+    main()

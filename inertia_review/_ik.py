@@ -213,7 +213,7 @@ def _seed_table(params, size, random_state):
 
 def solve_positions(arm, points, *, posture="elbow_up", reference_deg=None, tool_angle_deg=None,
                     elbow_joint=None, seeds=8, tolerance_m=1e-9, max_iterations=40,
-                    table_size=16384, random_state=0, method="auto"):
+                    table_size=16384, random_state=0, method="auto", initial_q=None):
     """Joint configurations that put the tool point at world points (..., 3) [m].
 
     Parameters
@@ -231,6 +231,9 @@ def solve_positions(arm, points, *, posture="elbow_up", reference_deg=None, tool
         Other redundant arms take the solution nearest the reference posture.
     method : {'auto', 'closed_form', 'numeric'}
         'auto' uses the closed form for two-joint planar arms, the numeric solver otherwise.
+    initial_q : array_like (..., n), optional
+        Warm start for the numeric solver (e.g. the previous solution after a small design
+        change); NaN entries fall back to the seed table, which is built only if needed.
 
     Returns
     -------
@@ -278,22 +281,55 @@ def solve_positions(arm, points, *, posture="elbow_up", reference_deg=None, tool
         converged = np.broadcast_to(status == OK, (2, count))
         residual = np.zeros((2, count))
     else:
-        table_q, table_frames = _seed_table(params, table_size, random_state)
-        table_pts = params.task_axes @ table_frames.tool                  # (k, T)
-        table_posture = _posture_value(params, table_frames, elbow)
         goal = params.task_axes @ targets
-        if posture == "elbow_up":
-            table_ok = table_posture > 0.0
-        elif posture == "elbow_down":
-            table_ok = table_posture < 0.0
-        else:
-            table_ok = np.ones(table_size, dtype=bool)
-        idx_pool = np.flatnonzero(table_ok) if np.any(table_ok) else np.arange(table_size)
-        from scipy.spatial import cKDTree
-        tree = cKDTree(table_pts[:, idx_pool].T)
-        _, nearest = tree.query(goal.T, k=int(seeds))
-        nearest = idx_pool[np.asarray(nearest).reshape(count, -1).T]      # (S, N)
-        s_count = nearest.shape[0]
+        warm = None
+        if initial_q is not None:
+            warm = np.asarray(initial_q, float).reshape(-1, n)
+            if warm.shape[0] != count:
+                raise ValueError(f"`initial_q` must have shape {batch + (n,)} like the points; "
+                                 f"got {np.shape(initial_q)}")
+            warm = warm.T.copy()                                          # (n, N)
+        offset = 1 if warm is not None else 0
+        s_count = int(seeds) + offset
+        table = {}
+
+        def nearest_rows():
+            """(S, N) table indices of the nearest seeds in the requested posture (lazy)."""
+            if "nearest" not in table:
+                from scipy.spatial import cKDTree
+                table_q, table_frames = _seed_table(params, table_size, random_state)
+                table_pts = params.task_axes @ table_frames.tool          # (k, T)
+                table_posture = _posture_value(params, table_frames, elbow)
+                if posture == "elbow_up":
+                    table_ok = table_posture > 0.0
+                elif posture == "elbow_down":
+                    table_ok = table_posture < 0.0
+                else:
+                    table_ok = np.ones(table_size, dtype=bool)
+                pool = np.flatnonzero(table_ok) if np.any(table_ok) else np.arange(table_size)
+                _, near = cKDTree(table_pts[:, pool].T).query(goal.T, k=int(seeds))
+                table["q"] = table_q
+                table["nearest"] = pool[np.asarray(near).reshape(count, -1).T]
+            return table["nearest"]
+
+        def seed_q(rows, idx):
+            """Seeds (n, len(idx)) for seed rows (0 = the warm start when given) at points idx."""
+            out = np.empty((n, idx.size))
+            is_warm = rows < offset
+            if np.any(is_warm):
+                w = warm[:, idx[is_warm]]
+                out[:, is_warm] = w
+            rest = ~is_warm
+            if np.any(rest):
+                near = nearest_rows()
+                out[:, rest] = table["q"][:, near[rows[rest] - offset, idx[rest]]]
+            if warm is not None and np.any(is_warm):
+                bad = is_warm & ~np.all(np.isfinite(out), axis=0)
+                if np.any(bad):                    # no previous solution: nearest table seed
+                    near = nearest_rows()
+                    out[:, bad] = table["q"][:, near[0, idx[bad]]]
+            return out
+
         angle = None
         if tool_angle_deg is not None:
             angle = np.broadcast_to(np.deg2rad(np.asarray(tool_angle_deg, float)),
@@ -312,7 +348,7 @@ def solve_positions(arm, points, *, posture="elbow_up", reference_deg=None, tool
             sel = np.array(seeds_round)
             idx = np.tile(todo, sel.size)
             seed_rows = np.repeat(sel, todo.size)
-            q_s, r_s, l_s = _dls(params, table_q[:, nearest[seed_rows, idx]], targets[:, idx],
+            q_s, r_s, l_s = _dls(params, seed_q(seed_rows, idx), targets[:, idx],
                                  None if angle is None else angle[idx], tolerance=tolerance_m,
                                  max_iterations=max_iterations,
                                  damping=1e-3 * _reach_bound(params),
@@ -339,7 +375,7 @@ def solve_positions(arm, points, *, posture="elbow_up", reference_deg=None, tool
         if failing.size:
             idx = np.tile(failing, s_count)
             rows = np.repeat(np.arange(s_count), failing.size)
-            q_f, r_f, _ = _dls(params, table_q[:, nearest[rows, idx]], targets[:, idx],
+            q_f, r_f, _ = _dls(params, seed_q(rows, idx), targets[:, idx],
                                None if angle is None else angle[idx], tolerance=tolerance_m,
                                max_iterations=max_iterations,
                                damping=1e-3 * _reach_bound(params), clip=False)
@@ -352,8 +388,13 @@ def solve_positions(arm, points, *, posture="elbow_up", reference_deg=None, tool
     s_count = candidates.shape[0]
     fitted, inside = zip(*(_fit_limits(candidates[s], params.limits) for s in range(s_count)))
     fitted, inside = np.stack(fitted), np.stack(inside)                   # (S, n, N), (S, N)
-    frames = _kinematics.forward(params, fitted.transpose(1, 0, 2).reshape(n, -1))
-    pval = _posture_value(params, frames, elbow).reshape(s_count, count)
+    # posture of the candidates worth choosing only (converged, inside the limits)
+    worth = (converged & inside).reshape(-1)
+    pval = np.zeros(s_count * count)
+    if np.any(worth):
+        flat = fitted.transpose(1, 0, 2).reshape(n, -1)[:, worth]
+        pval[worth] = _posture_value(params, _kinematics.forward(params, flat), elbow)
+    pval = pval.reshape(s_count, count)
     if posture == "elbow_up":
         posture_ok = pval > -1e-12
     elif posture == "elbow_down":

@@ -12,7 +12,7 @@ from .._scores import design_scores
 from ..plots import _map_plots, _style
 from ..plots._labels import variable_label
 from ..plots._plane import grid_values, map_plane, solved_mask
-from ._render import new_figure, png_bytes
+from ._render import new_figure, png_bytes, rgba_png
 
 __all__ = ["MapPanel", "MAP_METRICS", "scores_html"]
 
@@ -72,6 +72,8 @@ class MapPanel(widgets.VBox):
         self.message = widgets.HTML()
         self.ds = None
         self._artists = None
+        self._background = None
+        self._warm_start = True
         super().__init__(children=[self.metric_choice, self.image, self.readout, self.message],
                          **kwargs)
         self.metric = metric
@@ -95,8 +97,11 @@ class MapPanel(widgets.VBox):
             self._redraw()
 
     def _recompute(self):
+        options = dict(self._map_options)
+        if self.ds is not None and self._warm_start:
+            options.setdefault("initial_q", self.ds["q"].values)   # small change: warm start
         try:
-            ds = metric_map(self.arm, self._region, **self._map_options)
+            ds = metric_map(self.arm, self._region, **options)
         except (ValueError, KeyError) as exc:
             self._show_error(exc)
             return
@@ -118,21 +123,56 @@ class MapPanel(widgets.VBox):
 
     # ------------------------------------------------------------------ drawing
     def _redraw(self):
-        ds = self.ds
         if self._artists is None or self._artists.label_metric != self.metric:
             self._draw_first()
         else:
             self._update_in_place()
-        self.image.value = png_bytes(self.figure)
+        self.image.value = self._render()
+
+    def _dynamic(self):
+        art = self._artists
+        return [a for a in (art.mesh, art.reach, art.singular, art.probe_line, art.legend)
+                if a is not None]
 
     def _draw_first(self):
+        """Full draw: axes, colour bar (its scale then stays fixed), legend; then keep the
+        static background so that later changes redraw only the data artists (blitting)."""
         self.figure.clear()
+        self.figure.set_layout_engine("constrained")
         self.ax = self.figure.add_subplot()
         artists = _map_plots.plot_metric_map(self.ds, self.metric, ax=self.ax, legend=True)
         artists.label_metric = self.metric
         artists.probe_line = None
         self._artists = artists
+        self._frame_with_base()
         self._draw_probe()
+        for artist in self._dynamic():
+            artist.set_animated(True)
+        canvas = self.figure.canvas
+        canvas.draw()                                 # lays out; animated artists are skipped
+        self.figure.set_layout_engine("none")         # keep that layout for the updates
+        self._background = canvas.copy_from_bbox(self.figure.bbox)
+
+    def _frame_with_base(self):
+        """Fix the axes limits to the region plus the arm's base, so that the arm drawn at any
+        probe later fits the kept background."""
+        plane = map_plane(self.ds)
+        origins, _ = self.arm.link_frames(np.zeros(self.arm.dof))
+        base = plane.project(origins[:1])[0]
+        x0, x1 = self.ax.get_xlim()
+        y0, y1 = self.ax.get_ylim()
+        pad = 0.05 * max(x1 - x0, y1 - y0)
+        self.ax.set_xlim(min(x0, base[0] - pad), max(x1, base[0] + pad))
+        self.ax.set_ylim(min(y0, base[1] - pad), max(y1, base[1] + pad))
+        self.ax.set_autoscale_on(False)
+
+    def _render(self):
+        """PNG of the background plus the data artists drawn on top."""
+        canvas = self.figure.canvas
+        canvas.restore_region(self._background)
+        for artist in self._dynamic():
+            self.ax.draw_artist(artist)
+        return rgba_png(canvas)
 
     def _update_in_place(self):
         ds, art = self.ds, self._artists
@@ -142,18 +182,16 @@ class MapPanel(widgets.VBox):
         ok = solved_mask(ds)
         shown = _map_plots._masked(values * factor, ok)
         art.mesh.set_array(shown)
-        finite = shown.compressed()
-        if finite.size:
-            low, high = float(finite.min()), float(finite.max())
-            art.mesh.set_clim(low, high if high > low else low + 1e-12)
+        # the colour scale stays that of the first draw, so changes read against one scale
         with _style.plot_style():
             for old in (art.reach, art.singular):
                 if old is not None:
                     old.remove()
             art.reach = _map_plots._reach_contour(self.ax, plane, ok)
             art.singular = _map_plots._singular_hatch(self.ax, plane, ds, ok)
-        self.ax.set_title(ds.attrs.get("design", ""))
         self._draw_probe()
+        for artist in self._dynamic():
+            artist.set_animated(True)
 
     def _draw_probe(self):
         art = self._artists
@@ -170,6 +208,7 @@ class MapPanel(widgets.VBox):
         plane = map_plane(ds)
         with _style.plot_style():
             art.probe_line = _map_plots.draw_arm(self.ax, plane, _map_plots.arm_points(self.arm, q))
+        art.probe_line.set_animated(True)
 
     # ------------------------------------------------------------------ probing
     def index_of(self, u_m, v_m):

@@ -2,7 +2,7 @@
 
 import io
 
-__all__ = ["new_figure", "png_bytes"]
+__all__ = ["new_figure", "png_bytes", "rgba_png"]
 
 
 def new_figure(width_in, height_in, dpi=96, layout="constrained"):
@@ -19,4 +19,15 @@ def png_bytes(fig):
     """The figure as PNG bytes (for ``ipywidgets.Image.value`` and snapshots)."""
     buf = io.BytesIO()
     fig.canvas.print_png(buf)
+    return buf.getvalue()
+
+
+def rgba_png(canvas):
+    """PNG bytes of an Agg canvas's current buffer (fast compression; for blitted updates)."""
+    from PIL import Image
+
+    width, height = canvas.get_width_height(physical=True)
+    image = Image.frombuffer("RGBA", (width, height), canvas.buffer_rgba(), "raw", "RGBA", 0, 1)
+    buf = io.BytesIO()
+    image.save(buf, format="PNG", compress_level=1)
     return buf.getvalue()

@@ -223,7 +223,8 @@ def solve_positions(arm, points, *, posture="elbow_up", reference_deg=None, tool
         default the last joint) sits above the line from joint 1 to the tool point,
         "above" meaning against gravity within the task span (for an arm in a horizontal
         plane: along the plane's second task axis); 'nearest' the solution nearest
-        ``reference_deg``.
+        ``reference_deg``. Where several solutions satisfy the rule, the one nearest
+        ``reference_deg`` is kept.
     reference_deg : sequence of n float, optional
         Reference posture [deg] for 'nearest' (default: the middle of the joint limits).
     tool_angle_deg : float or array, optional
@@ -405,8 +406,9 @@ def solve_positions(arm, points, *, posture="elbow_up", reference_deg=None, tool
     wrap = np.arctan2(np.sin(fitted - reference[None, :, None]),
                       np.cos(fitted - reference[None, :, None]))
     distance = np.sqrt(np.sum(wrap * wrap, axis=1))                       # (S, N)
-    if posture != "nearest":
-        distance = residual                                               # smallest error wins
+    # among usable candidates the one nearest the reference posture wins (for the branch rules
+    # too), so that neighbouring points get the same kind of solution (e.g. not a mirror pose
+    # of a yaw-pitch-pitch arm reaching over its top)
     choice = np.argmin(np.where(usable, distance, np.inf), axis=0)
     q_best = np.take_along_axis(fitted, choice[None, None, :], axis=0)[0]
     res_best = np.take_along_axis(residual, choice[None, :], axis=0)[0]

@@ -67,7 +67,8 @@ def axis_label(axis_vector, fallback):
         if np.array_equal(np.abs(rounded), vec):
             sign = "-" if float(np.dot(a, vec)) < 0 else ""
             return f"{sign}{name} [mm]"
-    return f"{fallback} [mm] along ({a[0]:.2f}, {a[1]:.2f}, {a[2]:.2f})"
+    shown = np.round(a, 2) + 0.0                     # no "-0.00"
+    return f"{fallback} [mm] along ({shown[0]:.2f}, {shown[1]:.2f}, {shown[2]:.2f})"
 
 
 _RPY = ("roll", "pitch", "yaw")

@@ -59,9 +59,15 @@ def _range(path, value):
 
 
 def _short_label(path):
-    words = (path.replace("joints[", "").replace("].", " ").replace(".link.", " ")
-             .replace("link.", "").replace("point_masses[0].mass_kg", "motor mass")
-             .replace("_", " "))
+    """A readable slider label with its unit, e.g. 'shoulder motor mass [kg]'."""
+    import re
+    words = re.sub(r"^joints\[([^\]]+)\]\.", r"\1 ", path)
+    words = re.sub(r"link\.point_masses\[(\d+)\]\.mass_kg$",
+                   lambda m: f"link point mass {m.group(1)}",
+                   words)
+    words = (words.replace("link.mass", "link mass").replace("link.", "").replace("actuator.", "").replace("mount.rpy_deg[0]", "mount roll")
+             .replace("mount.rpy_deg[1]", "mount pitch").replace("mount.rpy_deg[2]", "mount yaw")
+             .replace("tool.", "").replace(".", " ").replace("_", " "))
     unit, _ = screen_unit(path)
     for suffix in (" m", " kg", " deg"):
         if words.endswith(suffix):
@@ -113,9 +119,19 @@ class DesignControls(widgets.VBox):
         return dict(self._sliders)
 
     def set_value(self, path, value_si):
-        """Set one parameter in SI units (as if its slider moved)."""
+        """Set one parameter in SI units (as if its slider moved).
+
+        A value outside the slider's range widens the range rather than being clamped, so
+        the value is applied (or rejected with its error) exactly as given.
+        """
         unit, factor = screen_unit(path)
-        self._sliders[path].value = value_si * factor
+        slider = self._sliders[path]
+        screen = value_si * factor
+        if screen < slider.min:
+            slider.min = screen
+        if screen > slider.max:
+            slider.max = screen
+        slider.value = screen
 
     def reset(self):
         """Every slider back to the baseline design."""

@@ -104,6 +104,7 @@ class SweepExplorer(widgets.VBox):
         self.message.value = ""
         self.sweep = sweep
         self.results = sweep.results_
+        self._plot(None)   # traitlets may not notify: Dataset == None is not a plain bool
         return sweep
 
     def _plot(self, change):
@@ -115,16 +116,18 @@ class SweepExplorer(widgets.VBox):
 
     def best_arm(self):
         """The best variant (by ``score``, higher is better except for moving mass) as an Arm."""
+        return self._base.with_values(self._best_values())
+
+    def _best_values(self):
         values, _ = self.sweep.best(self.score, maximize=self.score != "moving_mass_kg")
-        arm = self._base.with_values(values)
-        return arm
+        return values
 
     def send_best(self):
         """Add the best variant to the comparison board."""
         if self._board is None or self.results is None:
             return None
         arm = self.best_arm()
-        label = ", ".join(f"{k}={v:.3g}" for k, v in self.sweep.best(self.score)[0].items())
+        label = ", ".join(f"{k}={v:.3g}" for k, v in self._best_values().items())
         spec = arm.to_dict()
         spec["name"] = f"{self._base.name} best ({label})"[:60]
         from .._arm import Arm

@@ -7,7 +7,8 @@ manipulability, gravity torque, torque headroom and acceleration capability), ag
 
 (a) a per-configuration Python loop over the same core (the full metric set, one q at a time), and
 (b) closed forms of M(q) and J(q) derived with sympy and turned into numpy functions with
-    ``lambdify(cse=True)`` (tests/sympy_reference.py), what a practitioner would hand-roll.
+    ``lambdify`` over common subexpressions (tests/sympy_reference.py), what a practitioner
+    would hand-roll.
 
 Targets (issue 2): 3-joint full metric set >= 300,000 configurations/s on one core; >= 30x the
 per-configuration loop; mass matrix within 1.5x of the closed form for 3 joints and faster than

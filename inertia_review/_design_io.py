@@ -5,15 +5,14 @@ to a temporary file in the same folder that is renamed over the target, so a
 failed save never leaves a half-written file.
 """
 
-import os
 import re
-import tempfile
 import tomllib
 from pathlib import Path
 
 import tomli_w
 
 from ._arm import Arm
+from ._atomic import write_text_atomic
 from ._errors import DesignError
 
 __all__ = ["load_design", "save_design", "read_design_dict", "write_text_atomic"]
@@ -51,24 +50,6 @@ def load_design(path):
     """
     path = Path(path)
     return Arm.from_dict(read_design_dict(path), default_name=path.stem)
-
-
-def write_text_atomic(path, text):
-    """Write ``text`` to ``path`` through a temporary file and a rename (atomic on POSIX)."""
-    path = Path(path)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent or ".")
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            fh.write(text)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.replace(tmp, path)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except FileNotFoundError:
-            pass
-        raise
 
 
 def _drop_none(value):

@@ -1,27 +1,17 @@
 """Saving and loading maps and sweep results as netCDF (private)."""
 
-import os
-import tempfile
 from pathlib import Path
+
+from ._atomic import atomic_path
 
 __all__ = ["save_results", "load_results"]
 
 
 def save_results(ds, path):
     """Write a map or sweep Dataset to netCDF (h5netcdf) through a temporary file and a rename."""
-    path = Path(path)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent or ".")
-    os.close(fd)
-    try:
+    with atomic_path(path) as tmp:
         ds.to_netcdf(tmp, engine="h5netcdf", invalid_netcdf=True)
-        os.replace(tmp, path)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except FileNotFoundError:
-            pass
-        raise
-    return path
+    return Path(path)
 
 
 def load_results(path):

@@ -158,7 +158,7 @@ class DesignControls(widgets.VBox):
             arm = self._base.with_values(changed) if changed else self._base
         except DesignError as exc:
             self.error = str(exc)
-            self.message.value = ("<div style='color:#b00020'><b>Not applied (the last valid "
+            self.message.value = ("<div style='color:#b00020' class='ir-error'><b>Not applied (the last valid "
                                   "design stays on screen):</b><pre>" + _escape(str(exc)) +
                                   "</pre></div>")
             return

@@ -129,9 +129,10 @@ def torque_headroom(arm, q, accel_mps2=0.0):
     Returns
     -------
     TorqueHeadroom
-        ``static_torque_Nm``, ``worst_torque_Nm``, ``utilisation`` (worst / peak),
-        ``static_utilisation`` (static / continuous), ``headroom_Nm`` (peak - worst), each
-        (..., n) with NaN for unrated joints; ``min_margin`` (...,) = min over rated
+        ``static_torque_Nm`` and ``worst_torque_Nm`` (..., n) for every joint;
+        ``utilisation`` (worst / peak), ``static_utilisation`` (static / continuous) and
+        ``headroom_Nm`` (peak - worst), each (..., n) with NaN for joints without that
+        rating (stated, not silent: the joint has no actuator data); ``min_margin`` (...,) = min over rated
         joints of 1 - utilisation (negative: over the rating; -inf at singular
         configurations when ``accel_mps2 > 0``); ``limiting_joint`` (...,) its index.
     """

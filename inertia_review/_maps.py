@@ -36,7 +36,8 @@ METRIC_ATTRS = {
     "limiting_joint": ("1", "limiting joint", "index of the joint with the least headroom"),
     "accel_capability": ("m s^-2", "acceleration capability", "largest tool acceleration "
                          "reachable in every task direction from rest within the peak ratings"),
-    "near_singular": ("1", "near-singular", "isotropy index below 0.01"),
+    "near_singular": ("1", "near-singular", "isotropy index below the threshold "
+                      "(attribute 'threshold'; 0.01 by default)"),
     "q": ("rad", "joint angles", "configuration solved for the point (NaN where not solved)"),
     "status": ("1", "solution status", "0 ok; see flag_values / flag_meanings"),
 }
@@ -156,6 +157,7 @@ def map_arrays(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
         "cell_measure": region.cell_measure,
         "cell_measure_units": {"rectangle": "m^2", "box": "m^3", "points": "1"}[region.kind],
         "accel_mps2": accel, "posture": posture,
+        "near_singular_threshold": float(near_singular_threshold),
         "payload_kg": float(arm.to_dict()["tool"]["payload_kg"]),
         "moving_mass_kg": arm.moving_mass,
         "gravity_mps2": list(map(float, params.gravity)),
@@ -199,6 +201,9 @@ def _to_dataset(xr, arm, values, solution, points, grid, attrs):
             var_dims = dims
         data_vars[name] = (var_dims, arr.reshape(shape + trailing), _attrs(name))
     data_vars["q"] = (dims + ("joint",), solution.q.reshape(shape + (n,)), _attrs("q"))
+    data_vars["near_singular"][2]["threshold"] = attrs["near_singular_threshold"]
+    data_vars["near_singular"][2]["description"] = (
+        f"isotropy index below {attrs['near_singular_threshold']:g}")
     status_attrs = _attrs("status")
     status_attrs.update(flag_values=list(STATUS), flag_meanings=" ".join(STATUS.values()))
     data_vars["status"] = (dims, solution.status.reshape(shape), status_attrs)

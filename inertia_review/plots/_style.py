@@ -111,7 +111,8 @@ class Layout:
             return
         import matplotlib.pyplot as plt
 
-        fig = plt.figure(figsize=(width_in, height_in), layout="compressed" if equal else "constrained")
+        fig = plt.figure(figsize=(width_in, height_in),
+                         layout="compressed" if equal else "constrained")
         self.own, self.figure = True, fig
         if notes:
             self.grid = fig.add_gridspec(2, 1, height_ratios=[1.0, 0.05])
@@ -189,7 +190,8 @@ def principal_colors(k):
 def add_caution(ax, text, *, below=None, fontsize=CAUTION_FONTSIZE):
     """Place a caution text under the Axes, wrapped to the Axes width.
 
-    It sits below ``below`` (an artist) or, by default, below the x label. The annotation takes part in the constrained layout, so the
+    It sits below ``below`` (an artist) or, by default, below the x label. The
+    annotation takes part in the constrained layout, so the
     Axes make room for it. Returns the Text artist (``gid`` "caution").
     """
     fig = ax.figure

@@ -67,16 +67,24 @@ def _is_number(value):
     return isinstance(value, Real) and not isinstance(value, bool)
 
 
+def _present(problems, table, key, path, default, missing="required key is missing"):
+    """(True, value) when ``key`` is in ``table``; else (False, default or None), recording
+    a missing-key problem when there is no default."""
+    if key in table:
+        return True, table[key]
+    if default is _MISSING:
+        problems.add(join(path, key), missing)
+        return False, None
+    return False, default
+
+
 def get_number(problems, table, key, path, *, default=_MISSING, low=None, low_open=False,
                high=None, high_open=False):
     """A finite real number in the given interval, as float."""
     field = join(path, key)
-    if key not in table:
-        if default is _MISSING:
-            problems.add(field, "required key is missing")
-            return None
-        return default
-    value = table[key]
+    found, value = _present(problems, table, key, path, default)
+    if not found:
+        return value
     if not _is_number(value):
         kind = "a boolean" if isinstance(value, bool) else type(value).__name__
         problems.add(field, f"must be a number; got {kind} {_describe(value)}")
@@ -97,12 +105,9 @@ def get_number(problems, table, key, path, *, default=_MISSING, low=None, low_op
 def get_vector(problems, table, key, path, length, *, default=_MISSING):
     """A list of ``length`` finite numbers, as a tuple of floats."""
     field = join(path, key)
-    if key not in table:
-        if default is _MISSING:
-            problems.add(field, "required key is missing")
-            return None
-        return default
-    value = table[key]
+    found, value = _present(problems, table, key, path, default)
+    if not found:
+        return value
     if not isinstance(value, (list, tuple)):
         problems.add(field, f"must be a list of {length} numbers; got {_describe(value)}")
         return None
@@ -129,45 +134,34 @@ def get_vector_item(problems, rows, index, path, length):
 
 
 def get_string(problems, table, key, path, *, default=_MISSING):
-    field = join(path, key)
-    if key not in table:
-        if default is _MISSING:
-            problems.add(field, "required key is missing")
-            return None
-        return default
-    value = table[key]
+    found, value = _present(problems, table, key, path, default)
+    if not found:
+        return value
     if not isinstance(value, str):
-        problems.add(field, f"must be a string; got {_describe(value)}")
+        problems.add(join(path, key), f"must be a string; got {_describe(value)}")
         return None
     return value
 
 
 def get_table(problems, table, key, path, *, required=False):
     """A sub-table (dict); ``{}`` when optional and absent, ``None`` if unusable."""
-    field = join(path, key)
-    if key not in table:
-        if required:
-            problems.add(field, "required table is missing")
-            return None
-        return {}
-    value = table[key]
+    found, value = _present(problems, table, key, path, _MISSING if required else {},
+                            "required table is missing")
+    if not found:
+        return value
     if not isinstance(value, dict):
-        problems.add(field, f"must be a table; got {_describe(value)}")
+        problems.add(join(path, key), f"must be a table; got {_describe(value)}")
         return None
     return value
 
 
 def get_list(problems, table, key, path, *, required=False):
     """A list of tables; ``[]`` when optional and absent, ``None`` if unusable."""
-    field = join(path, key)
-    if key not in table:
-        if required:
-            problems.add(field, "required key is missing")
-            return None
-        return []
-    value = table[key]
+    found, value = _present(problems, table, key, path, _MISSING if required else [])
+    if not found:
+        return value
     if not isinstance(value, (list, tuple)) or not all(isinstance(v, dict) for v in value):
-        problems.add(field, f"must be a list of tables; got {_describe(value)}")
+        problems.add(join(path, key), f"must be a list of tables; got {_describe(value)}")
         return None
     return list(value)
 

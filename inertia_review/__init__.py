@@ -11,6 +11,10 @@ from ._api import (acceleration_along, acceleration_capability, apparent_mass, e
 from ._arm import Arm
 from ._baselines import baseline_table
 from ._builders import planar_chain, yaw_pitch_pitch_arm
+from ._contact import (BodyRegion, BodyRegions, ContactSpeed, SpeedCheck, check_speeds,
+                       contact_speed, contact_speed_map, load_body_regions, permissible_speed,
+                       reduced_mass, simplified_effective_mass, transient_energy_limit,
+                       transient_speed_limit)
 from ._design import STANDARD_GRAVITY
 from ._design_io import load_design, save_design
 from ._errors import DesignError
@@ -41,6 +45,10 @@ __all__ = [
     "solve_positions", "PositionSolution", "STATUS",
     "metric_map", "METRIC_ATTRS", "design_scores", "scores_table", "SCORE_COLUMNS",
     "Sweep", "parameter_paths", "save_results", "load_results", "baseline_table",
+    # contact speeds beside people (transient-contact model, ISO/TS 15066:2016 Annex A)
+    "load_body_regions", "BodyRegion", "BodyRegions", "reduced_mass", "transient_energy_limit",
+    "transient_speed_limit", "simplified_effective_mass", "contact_speed", "permissible_speed",
+    "contact_speed_map", "check_speeds", "ContactSpeed", "SpeedCheck",
     # result types and constants
     "PrincipalMasses", "TorqueHeadroom", "STANDARD_GRAVITY",
 ]

@@ -25,6 +25,7 @@ from ._ellipses import (EllipseField, PrincipalArrows, plane_ellipses, plot_elli
 from ._map_plots import (HeadroomArtists, MapArtists, SmallMultiples, plot_difference_map,
                          plot_headroom_map, plot_metric_map, plot_small_multiples)
 from ._style import CMAP_DIVERGING, CMAP_SEQUENTIAL, COLORS, plot_style
+from ._safety_plots import ContactMapArtists, plot_contact_speed_map
 from ._tradeoff import TradeoffArtists, plot_tradeoff
 
 __all__ = [
@@ -33,6 +34,8 @@ __all__ = [
     "plot_small_multiples", "plot_difference_map", "plot_headroom_map",
     # sweeps
     "plot_tradeoff",
+    # contact speeds beside people (always with the caution)
+    "plot_contact_speed_map", "ContactMapArtists",
     # displays
     "MassEllipseDisplay", "TorqueBarsDisplay",
     # result objects

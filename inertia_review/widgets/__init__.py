@@ -12,6 +12,8 @@ SweepExplorer
     parameters and ranges, a run with a progress bar, the trade-off plot, send to board
 ReviewApp, snapshot
     the quick-review layout; static images and text for saved notebooks
+ContactMapPanel
+    permissible transient-contact speed over the region for a body region (with cautions)
 """
 
 from ._board import ComparisonBoard, scores_table_html
@@ -19,8 +21,9 @@ from ._controls import DesignControls, default_parameters
 from ._map_panel import MAP_METRICS, MapPanel, scores_html
 from ._probe import PointProbe
 from ._review import ReviewApp, snapshot
+from ._safety_panels import ContactMapPanel
 from ._sweep_explorer import SweepExplorer
 
 __all__ = ["DesignControls", "MapPanel", "PointProbe", "ComparisonBoard", "SweepExplorer",
-           "ReviewApp", "snapshot", "default_parameters", "MAP_METRICS", "scores_html",
+           "ReviewApp", "snapshot", "ContactMapPanel", "default_parameters", "MAP_METRICS", "scores_html",
            "scores_table_html"]

@@ -29,6 +29,10 @@ _SCORE_LABELS = (("reachable_fraction", "reachable", "{:.1%}"), ("gci", "GCI", "
                  ("moving_mass_kg", "moving mass [kg]", "{:.3f}"))
 
 
+def _metric_name(metric):
+    return METRIC_ATTRS[metric][1] if metric in METRIC_ATTRS else metric.replace("_", " ")
+
+
 def scores_html(scores):
     """A small HTML readout of a design's scores (with the torque caution)."""
     cells = []
@@ -60,13 +64,17 @@ class MapPanel(widgets.VBox):
     error = traitlets.Unicode("", help="last computation error, '' when fine")
 
     def __init__(self, arm, region, *, metric="mass_ratio", map_options=None,
-                 size_in=(6.4, 4.8), **kwargs):
+                 size_in=(6.4, 4.8), compute=None, metrics=None, readout=None, **kwargs):
+        # compute(arm, region, **options) -> map Dataset; readout(ds) -> (scores dict, html)
+        self._compute = compute or metric_map
+        self._readout = readout or (lambda ds: (lambda sc: (sc, scores_html(sc)))(design_scores(ds)))
+        metrics = metrics or MAP_METRICS
         self._region = region
         self._map_options = dict(map_options or {})
         self.figure = new_figure(*size_in)
         self.ax = self.figure.add_subplot()
         self.image = widgets.Image(format="png", layout=widgets.Layout(width=f"{size_in[0]}in"))
-        self.metric_choice = widgets.Dropdown(options=[(METRIC_ATTRS[m][1], m) for m in MAP_METRICS],
+        self.metric_choice = widgets.Dropdown(options=[(_metric_name(m), m) for m in metrics],
                                               value=metric, description="metric")
         self.readout = widgets.HTML()
         self.message = widgets.HTML()
@@ -101,7 +109,7 @@ class MapPanel(widgets.VBox):
         if self.ds is not None and self._warm_start:
             options.setdefault("initial_q", self.ds["q"].values)   # small change: warm start
         try:
-            ds = metric_map(self.arm, self._region, **options)
+            ds = self._compute(self.arm, self._region, **options)
         except (ValueError, KeyError) as exc:
             self._show_error(exc)
             return
@@ -111,8 +119,7 @@ class MapPanel(widgets.VBox):
         self.ds = ds
         self.error = ""
         self.message.value = ""
-        self.scores = design_scores(ds)
-        self.readout.value = scores_html(self.scores)
+        self.scores, self.readout.value = self._readout(ds)
         self._redraw()
 
     def _show_error(self, exc):

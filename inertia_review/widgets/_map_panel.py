@@ -66,7 +66,7 @@ class MapPanel(widgets.VBox):
     def __init__(self, arm, region, *, metric="mass_ratio", map_options=None,
                  size_in=(6.4, 4.8), compute=None, metrics=None, readout=None, **kwargs):
         # compute(arm, region, **options) -> map Dataset; readout(ds) -> (scores dict, html)
-        self._compute = compute or metric_map
+        self._compute = compute            # None: metric_map (looked up at each call)
         self._readout = readout or (lambda ds: (lambda sc: (sc, scores_html(sc)))(design_scores(ds)))
         metrics = metrics or MAP_METRICS
         self._region = region
@@ -109,7 +109,7 @@ class MapPanel(widgets.VBox):
         if self.ds is not None and self._warm_start:
             options.setdefault("initial_q", self.ds["q"].values)   # small change: warm start
         try:
-            ds = self._compute(self.arm, self._region, **options)
+            ds = (self._compute or metric_map)(self.arm, self._region, **options)
         except (ValueError, KeyError) as exc:
             self._show_error(exc)
             return

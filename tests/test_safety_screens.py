@@ -1,0 +1,53 @@
+"""Screens that show contact speeds: the caution is always there, the numbers are the core's."""
+
+import matplotlib
+
+matplotlib.use("Agg")
+
+import numpy as np  # noqa: E402
+import pytest  # noqa: E402
+
+import inertia_review as ir  # noqa: E402
+from inertia_review import plots  # noqa: E402
+from inertia_review._cautions import CONTACT_CAUTION  # noqa: E402
+from inertia_review.widgets import ContactMapPanel  # noqa: E402
+
+
+@pytest.fixture(scope="module")
+def arm_and_region():
+    arm = ir.load_design("designs/kestrel_a.toml")
+    r = arm.task.region
+    return arm, ir.Rectangle(r.center_m, r.axes, r.size_m, 0.04)
+
+
+def test_contact_plot_shows_the_values_and_the_caution(arm_and_region):
+    arm, region = arm_and_region
+    ds = ir.contact_speed_map(arm, region, "hand", direction=(0.0, 0.0, -1.0))
+    art = plots.plot_contact_speed_map(ds)
+    shown = np.ma.masked_invalid(art.map.mesh.get_array())
+    ok = ds["status"].values == 0
+    # the mesh is the dataset's permissible speed [m/s] where solved (screen unit m/s, factor 1)
+    np.testing.assert_allclose(shown.filled(np.nan)[ok], ds["permissible_speed"].values[ok])
+    assert np.all(shown.mask[~ok])
+    assert "validation" in art.caution.get_text() and "ISO 12100" in art.caution.get_text()
+    assert art.map.colorbar.ax.get_ylabel().endswith("[m/s]")
+    import matplotlib.pyplot as plt
+    plt.close("all")
+
+
+def test_contact_panel_caution_and_core_numbers(arm_and_region):
+    arm, region = arm_and_region
+    panel = ContactMapPanel(arm, region, body_region="hand", direction=(0.0, 0.0, -1.0))
+    assert CONTACT_CAUTION[:60] in panel.readout.value.replace("&#x27;", "'")
+    ref = ir.contact_speed_map(arm, region, "hand", direction=(0.0, 0.0, -1.0))
+    ok = ref["status"].values == 0
+    assert panel.scores["speed_min_mps"] == pytest.approx(float(ref["permissible_speed"].values[ok].min()),
+                                                          rel=1e-9)
+    # a different body region recomputes with that region's values (ISO/TS 15066 Table A.2/A.3
+    # as shipped in inertia_review/data/body_regions.toml)
+    panel.body_choice.value = "abdomen"
+    ref2 = ir.contact_speed_map(arm, region, "abdomen", direction=(0.0, 0.0, -1.0))
+    assert panel.scores["speed_min_mps"] == pytest.approx(
+        float(ref2["permissible_speed"].values[ok].min()), rel=1e-9)
+    assert panel.scores["speed_min_mps"] != pytest.approx(float(ref["permissible_speed"].values[ok].min()))
+    assert "validation" in panel.readout.value and panel.error == ""

@@ -19,6 +19,8 @@ Apparent-mass ellipses follow Asada's generalized inertia ellipsoid
 x^T Lambda x = 1 (semi-axes 1 / sqrt(mass)): short along heavy directions.
 """
 
+from ._cycle_plots import (CycleTorqueArtists, CycleUtilisationArtists, plot_cycle_torques,
+                           plot_cycle_utilisation)
 from ._displays import MassEllipseDisplay, TorqueBarsDisplay
 from ._ellipses import (EllipseField, PrincipalArrows, plane_ellipses, plot_ellipse_field,
                         plot_principal_directions)
@@ -34,6 +36,9 @@ __all__ = [
     "plot_small_multiples", "plot_difference_map", "plot_headroom_map",
     # sweeps
     "plot_tradeoff",
+    # move cycles against the actuator ratings
+    "plot_cycle_torques", "plot_cycle_utilisation", "CycleTorqueArtists",
+    "CycleUtilisationArtists",
     # contact speeds beside people (always with the caution)
     "plot_contact_speed_map", "ContactMapArtists",
     # displays

@@ -15,6 +15,8 @@ from ._contact import (BodyRegion, BodyRegions, ContactSpeed, SpeedCheck, check_
                        contact_speed, contact_speed_map, load_body_regions, permissible_speed,
                        reduced_mass, simplified_effective_mass, transient_energy_limit,
                        transient_speed_limit)
+from ._cycles import (MOVE_KINDS, Cycle, CycleTorques, MotionProfile, Move, cycle_from_dict,
+                      cycle_torques, design_cycles, s_curve_profile, trapezoidal_profile)
 from ._design import STANDARD_GRAVITY
 from ._design_io import load_design, save_design
 from ._errors import DesignError
@@ -49,6 +51,9 @@ __all__ = [
     "load_body_regions", "BodyRegion", "BodyRegions", "reduced_mass", "transient_energy_limit",
     "transient_speed_limit", "simplified_effective_mass", "contact_speed", "permissible_speed",
     "contact_speed_map", "check_speeds", "ContactSpeed", "SpeedCheck",
+    # move cycles for actuator sizing (motion profiles, cycle torques)
+    "trapezoidal_profile", "s_curve_profile", "MotionProfile", "Move", "Cycle", "MOVE_KINDS",
+    "cycle_from_dict", "design_cycles", "cycle_torques", "CycleTorques",
     # result types and constants
     "PrincipalMasses", "TorqueHeadroom", "STANDARD_GRAVITY",
 ]

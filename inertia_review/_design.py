@@ -21,7 +21,7 @@ SUPPORTED_FORMATS = (1,)
 #: Standard acceleration of gravity [m/s^2], exact by definition (3rd CGPM 1901; ISO 80000-3).
 STANDARD_GRAVITY = 9.80665
 
-TOP_KEYS = ("name", "format", "mount", "joints", "tool", "task")
+TOP_KEYS = ("name", "format", "mount", "joints", "tool", "task", "cycles")
 MOUNT_KEYS = ("xyz_m", "rpy_deg", "gravity_mps2")
 JOINT_KEYS = ("name", "xyz_m", "rpy_deg", "axis", "limits_deg", "link", "actuator")
 LINK_KEYS = ("mass_kg", "com_m", "inertia_kgm2", "point_masses", "tube")
@@ -247,6 +247,9 @@ def normalise_design(data, default_name="unnamed"):
         task = get_table(problems, data, "task", "")
         if task is not None:
             out["task"] = _normalise_task(problems, task, len(out["joints"]))
+    if "cycles" in data:
+        from ._cycles import normalise_cycles
+        out["cycles"] = normalise_cycles(problems, data)
     if problems:
         raise DesignError(display_name, problems.items)
     return out

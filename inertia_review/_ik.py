@@ -309,8 +309,14 @@ def solve_positions(arm, points, *, posture="elbow_up", reference_deg=None, tool
                     table_ok = np.ones(table_size, dtype=bool)
                 pool = np.flatnonzero(table_ok) if np.any(table_ok) else np.arange(table_size)
                 _, near = cKDTree(table_pts[:, pool].T).query(goal.T, k=int(seeds))
+                near = pool[np.asarray(near).reshape(count, -1).T]            # (S, N)
+                # try first the seeds nearest the reference posture, so that the first
+                # solution found in the requested posture tends to be the one nearest it
+                diff = table_q[:, near] - reference[:, None, None]
+                wrapped = np.arctan2(np.sin(diff), np.cos(diff))
+                order = np.argsort(np.sum(wrapped * wrapped, axis=0), axis=0, kind="stable")
                 table["q"] = table_q
-                table["nearest"] = pool[np.asarray(near).reshape(count, -1).T]
+                table["nearest"] = np.take_along_axis(near, order, axis=0)
             return table["nearest"]
 
         def seed_q(rows, idx):

@@ -137,9 +137,64 @@ def baselines():
     ]
 
 
+CONTACT_MD = (
+    "> **Caution (contact speeds).** Permissible contact speeds are design-stage estimates from the "
+    "informative transient-contact model of ISO/TS 15066:2016 Annex A with the arm's rigid-body "
+    "apparent mass; they are not a validation. Contact forces and pressures must be measured on "
+    "the finished application (ISO/PAS 5672) after a risk assessment per ISO 12100 and "
+    "ISO 10218-2; no transient contact with the skull, forehead or face is permitted. The body-region "
+    "values are secondary copies, to be checked against a licensed copy of the current standard. "
+    "Local regulations and qualified, licensed practice decide.")
+
+
+def sizing_and_contact():
+    return [
+        new_markdown_cell("# Actuator sizing and contact speeds for the alternatives\n\n" + SCENARIO_MD +
+                          "\n\nThe tray-to-fixture move cycle of each design file (invented) is "
+                          "sampled at 1 kHz; joint torques come from the rigid-body model "
+                          "(tau = M qdd + velocity torque + gravity torque) and are compared with the "
+                          "actuators' peak and continuous ratings. Then the permissible tool speed "
+                          "for an accidental contact with a hand or a lower arm is mapped over the "
+                          "task region from the apparent mass along the motion, and the cycle's own "
+                          "tool speeds are checked against it.\n\n" + CAUTION_MD + "\n\n" + CONTACT_MD),
+        new_code_cell("import numpy as np\nimport inertia_review as ir\nfrom inertia_review import plots\n"
+                      "from inertia_review.widgets import ContactMapPanel, CyclePanel, snapshot\n\n"
+                      "names = [\"kestrel_a\", \"kestrel_b\", \"kestrel_c\"]\n"
+                      "arms = [ir.load_design(f\"../designs/{n}.toml\") for n in names]\n"
+                      "cycles = [ir.design_cycles(a)[0] for a in arms]\n"
+                      "results = [ir.cycle_torques(a, c) for a, c in zip(arms, cycles)]"),
+        new_markdown_cell("## Cycle torques against the ratings (accepted values)"),
+        new_code_cell("# NBVAL_CHECK_OUTPUT\nfor r in results:\n    print(r.text())\n    print()"),
+        new_code_cell("plots.plot_cycle_torques(results[0]);"),
+        new_code_cell("for r in results:\n    plots.plot_cycle_utilisation(r)"),
+        new_markdown_cell("## Permissible contact speed over the task region"),
+        new_code_cell("task = arms[0].task\nmaps = {(a.name, body): ir.contact_speed_map(a, task, body)\n"
+                      "        for a in arms for body in (\"hand\", \"lower_arm\")}"),
+        new_code_cell("# NBVAL_CHECK_OUTPUT\nfor (name, body), ds in maps.items():\n"
+                      "    ok = ds[\"status\"].values == 0\n"
+                      "    v = ds[\"permissible_speed\"].values[ok]\n"
+                      "    print(f\"{name:10s} {body:10s} lowest {v.min():.4f} m/s, median {float(np.median(v)):.4f} m/s\")\n"
+                      "print(next(iter(maps.values())).attrs[\"caution\"])"),
+        new_code_cell("plots.plot_contact_speed_map(maps[(\"kestrel_a\", \"hand\")]);"),
+        new_markdown_cell("## The cycle's tool speeds against the hand limit"),
+        new_code_cell("# NBVAL_CHECK_OUTPUT\nfor a, r in zip(arms, results):\n"
+                      "    check = ir.check_speeds(a, None, r.tool_velocity[::10], q=r.q[::10], body_region=\"hand\")\n"
+                      "    w = check.worst\n"
+                      "    print(f\"{a.name}: {int(check.ok.sum())} of {check.ok.size} samples within the limit; \"\n"
+                      "          f\"worst margin {check.margin_mps[w]:.4f} m/s at {check.speeds_mps[w]:.4f} m/s\")"),
+        new_markdown_cell("## Panels\nThe cycle panel shows the three alternatives side by side; the "
+                          "contact panel maps a chosen body region. Both show their cautions."),
+        new_code_cell("cycle_panel = CyclePanel(arms)\ncycle_panel"),
+        new_code_cell("contact_panel = ContactMapPanel(arms[0], task, body_region=\"hand\")\ncontact_panel"),
+        new_code_cell("# NBVAL_IGNORE_OUTPUT\nsnapshot(cycle_panel, title=\"cycle torques\")\n"
+                      "snapshot(contact_panel, title=\"contact speeds, hand\")"),
+    ]
+
+
 def main():
     books = {"01_quick_review.ipynb": quick_review(), "02_compare_alternatives.ipynb": compare(),
-             "03_sweep_study.ipynb": sweep_study(), "04_baselines.ipynb": baselines()}
+             "03_sweep_study.ipynb": sweep_study(), "04_baselines.ipynb": baselines(),
+             "05_actuators_and_contact.ipynb": sizing_and_contact()}
     for name, cells in books.items():
         nb = new_notebook(cells=cells, metadata={
             "kernelspec": {"display_name": "Python 3", "language": "python", "name": "python3"},

@@ -84,11 +84,12 @@ def plot_cycle_torques(result, *, axes=None):
     return CycleTorqueArtists(lines, peaks, conts, rmss, axes, fig)
 
 
-def plot_cycle_utilisation(result, *, ax=None):
+def plot_cycle_utilisation(result, *, ax=None, title=None, caution=True, legend=True):
     """Per-joint peak, RMS and speed utilisation of the cycle as bars [%], with the caution.
 
     100 % is the rating (peak torque, continuous torque, rated motor speed); joints without
-    a rating show no bar for it.
+    a rating show no bar for it. ``caution=False`` leaves the caution to the caller (a
+    figure of several designs places it once).
 
     Returns
     -------
@@ -112,9 +113,11 @@ def plot_cycle_utilisation(result, *, ax=None):
                            label="rating (100 %)")
         ax.set_xticks(x, result.joint_names)
         ax.set_ylabel("utilisation [%]")
-        ax.set_title(f"{result.design_name}: cycle '{result.cycle.name}' against the ratings")
+        ax.set_title(title if title is not None else
+                     f"{result.design_name}: cycle '{result.cycle.name}' against the ratings")
         ax.grid(True, axis="y", color=COLORS["grid"], linewidth=0.6)
-        layout.legend(list(bars.values()) + [limit])
-        text = layout.caution(result.caution)
+        if legend:
+            layout.legend(list(bars.values()) + [limit])
+        text = layout.caution(result.caution) if caution else None
         layout.finish()
     return CycleUtilisationArtists(bars, limit, text, ax)

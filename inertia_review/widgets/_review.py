@@ -1,6 +1,7 @@
 """The quick-review app and static snapshots for saved notebooks (private)."""
 
 import ipywidgets as widgets
+import numpy as np
 
 from .._baselines import baseline_table
 from .._cautions import TORQUE_CAUTION
@@ -55,10 +56,21 @@ def snapshot(widget, *, title=None):
     for data in _images_of(widget):
         display(Image(data=data, format="png"))
     panel = getattr(widget, "panel", widget)
-    if getattr(panel, "ds", None) is not None:
-        print(baseline_table([panel.ds]))
+    ds = getattr(panel, "ds", None)
+    caution = TORQUE_CAUTION
+    if ds is not None and "isotropy" in ds:
+        print(baseline_table([ds]))
+    elif ds is not None and "permissible_speed" in ds:
+        ok = ds["status"].values == 0
+        speed = ds["permissible_speed"].values[ok]
+        print(f"permissible contact speed, {ds.attrs.get('body_region_name', '')}: lowest "
+              f"{speed.min():.4f} m/s, median {float(np.median(speed)):.4f} m/s")
+        caution = ds.attrs.get("caution", caution)
     board_maps = getattr(widget, "maps", None)
     if board_maps:
         print(baseline_table(board_maps))
-    print(TORQUE_CAUTION)
+    for result in getattr(widget, "results", None) or []:
+        if hasattr(result, "text"):
+            print(result.text())
+    print(caution)
     return None

@@ -1,15 +1,16 @@
-"""Contact-speed map panel (private); the cycle panel joins it when move cycles land."""
+"""Actuator-sizing and contact-speed panels: move cycles and permissible speeds (private)."""
 
 import html
 
 import ipywidgets as widgets
 import numpy as np
+import traitlets
 
 from .._cautions import CONTACT_CAUTION
 from .._contact import contact_speed_map, load_body_regions
 from ._map_panel import MapPanel
 
-__all__ = ["ContactMapPanel"]
+__all__ = ["ContactMapPanel", "CyclePanel"]
 
 _CAUTION_HTML = (f"<div class='ir-caution' style='font-size:85%;color:#7a4b00;max-width:40em'>"
                  f"{html.escape(CONTACT_CAUTION)}</div>")
@@ -59,3 +60,87 @@ class ContactMapPanel(MapPanel):
         self._body = change["new"]
         self._artists = None            # new quantity range: redraw with a fresh colour scale
         self._recompute()
+
+
+class CyclePanel(widgets.VBox):
+    """Torques of a move cycle against the ratings, for one design or side by side for several.
+
+    Traits: ``arms`` (list of Arm; 1 to 4), ``cycle_name``. For one design it shows the
+    torque-time plot per joint and the utilisation bars; for several, the bars side by side
+    (usable beside a :class:`ComparisonBoard`). The caution is always shown.
+    """
+
+    arms = traitlets.List(help="designs reviewed (1 to 4)")
+    cycle_name = traitlets.Unicode("", help="name of the cycle (from the first design's file)")
+    error = traitlets.Unicode("")
+
+    def __init__(self, arms, *, cycle=None, sample_rate_hz=1000.0, **kwargs):
+        from .._cycles import design_cycles
+
+        arms = [arms] if not isinstance(arms, (list, tuple)) else list(arms)
+        self._cycles = {c.name: c for c in design_cycles(arms[0])}
+        if cycle is not None and not isinstance(cycle, str):
+            self._cycles[cycle.name] = cycle
+            cycle = cycle.name
+        if not self._cycles:
+            raise ValueError(f"design '{arms[0].name}' has no [[cycles]]: pass `cycle`")
+        self._rate = float(sample_rate_hz)
+        self.cycle_choice = widgets.Dropdown(options=list(self._cycles), description="cycle")
+        self.torque_image = widgets.Image(format="png", layout=widgets.Layout(width="6.5in"))
+        self.bars_image = widgets.Image(format="png", layout=widgets.Layout(width="6.5in"))
+        self.table = widgets.HTML()
+        self.message = widgets.HTML()
+        super().__init__(children=[self.cycle_choice, self.torque_image, self.bars_image,
+                                   self.table, self.message], **kwargs)
+        self.results = []
+        self.cycle_name = cycle or next(iter(self._cycles))
+        self.cycle_choice.value = self.cycle_name
+        widgets.link((self.cycle_choice, "value"), (self, "cycle_name"))
+        self.arms = arms
+        self.observe(self._recompute, names=["arms", "cycle_name"])
+        self._recompute(None)
+
+    def _recompute(self, change):
+        from .._cycles import cycle_torques
+        from ..plots import plot_cycle_torques, plot_cycle_utilisation
+        from ._render import new_figure, png_bytes
+
+        cycle = self._cycles[self.cycle_name]
+        try:
+            results = [cycle_torques(arm, cycle, sample_rate_hz=self._rate) for arm in self.arms]
+        except (ValueError, KeyError) as exc:
+            self.error = str(exc)
+            self.message.value = (f"<div class='ir-error' style='color:#b00020'><b>Not updated "
+                                  f"(the last valid result stays on screen):</b> "
+                                  f"{html.escape(str(exc))}</div>")
+            return
+        self.error, self.message.value = "", ""
+        self.results = results
+        if len(results) == 1:
+            n = len(results[0].joint_names)
+            fig = new_figure(7.0, 1.9 * n + 0.8)
+            axes = fig.subplots(n, 1, sharex=True, squeeze=False)[:, 0]
+            plot_cycle_torques(results[0], axes=axes)
+            self.torque_image.value = png_bytes(fig)
+            self.torque_image.layout.display = None
+        else:
+            self.torque_image.layout.display = "none"
+        if len(results) == 1:
+            fig = new_figure(6.4, 4.6, layout=None)
+            plot_cycle_utilisation(results[0], ax=fig.add_subplot())
+        else:
+            import textwrap
+            fig = new_figure(3.6 * len(results) + 0.6, 4.8)
+            for i, result in enumerate(results):
+                plot_cycle_utilisation(result, ax=fig.add_subplot(1, len(results), i + 1),
+                                       title=result.design_name, caution=False,
+                                       legend=i == len(results) - 1)
+            fig.suptitle(f"cycle '{self.cycle_name}' against the ratings")
+            fig.text(0.01, 0.0, textwrap.fill(results[0].caution, 40 * len(results)),
+                     fontsize=7, va="bottom")
+            fig.get_layout_engine().set(rect=(0, 0.14, 1, 0.86))
+        self.bars_image.value = png_bytes(fig)
+        tables = "".join(f"<h4>{html.escape(r.design_name)}</h4>"
+                         f"{r.table().round(3).to_html(classes='ir-cycle-table')}" for r in results)
+        self.table.value = tables + (f"<div class='ir-caution' style='font-size:85%;color:#7a4b00;"
+                                     f"max-width:40em'>{html.escape(results[0].caution)}</div>")

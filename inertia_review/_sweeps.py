@@ -55,7 +55,7 @@ class Sweep:
     keep_maps : bool, default False
         Keep every variant's map in ``maps_`` (memory grows with the sweep).
     chunk_size : int, optional
-        Variants per task sent to a worker (default: about four tasks per worker, at most 25).
+        Variants per task sent to a worker (default: about eight tasks per worker, at most 25).
     progress : bool, default True
         Show a progress bar (``tqdm.auto``, notebook-aware).
     **map_options
@@ -122,10 +122,12 @@ class Sweep:
         own_pool = executor is None
         if own_pool:
             executor = ProcessPoolExecutor(max_workers=os.cpu_count() or 1)
-        elif hasattr(executor, "get_executor"):          # a dask.distributed Client
+        workers = getattr(executor, "_max_workers", None)
+        if hasattr(executor, "get_executor"):            # a dask.distributed Client
+            workers = len(executor.scheduler_info().get("workers", {})) or None
             executor = executor.get_executor()
-        workers = getattr(executor, "_max_workers", None) or os.cpu_count() or 2
-        size = self.chunk_size or max(1, min(25, len(combos) // (4 * workers)))
+        workers = workers or os.cpu_count() or 2
+        size = self.chunk_size or max(1, min(25, len(combos) // (8 * workers)))
         indexed = list(enumerate(combos))
         chunks = [indexed[i:i + size] for i in range(0, len(combos), size)]
         scores = [None] * len(combos)

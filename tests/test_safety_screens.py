@@ -51,3 +51,43 @@ def test_contact_panel_caution_and_core_numbers(arm_and_region):
         float(ref2["permissible_speed"].values[ok].min()), rel=1e-9)
     assert panel.scores["speed_min_mps"] != pytest.approx(float(ref["permissible_speed"].values[ok].min()))
     assert "validation" in panel.readout.value and panel.error == ""
+
+
+def test_cycle_panel_shows_the_core_review_and_the_caution():
+    from inertia_review.widgets import CyclePanel
+
+    arms = [ir.load_design(f"designs/kestrel_{c}.toml") for c in "ab"]
+    cycle = ir.design_cycles(arms[0])[0]
+    panel = CyclePanel(arms[0], sample_rate_hz=200.0)
+    ref = ir.cycle_torques(arms[0], cycle, sample_rate_hz=200.0)
+    got = panel.results[0]
+    np.testing.assert_allclose(got.rms_torque_Nm, ref.rms_torque_Nm, rtol=1e-12)
+    np.testing.assert_allclose(got.peak_torque_Nm, ref.peak_torque_Nm, rtol=1e-12)
+    assert panel.torque_image.value[:8] == b"\x89PNG\r\n\x1a\n"      # PNG signature
+    assert "validation" in panel.table.value and "ISO 12100" in panel.table.value
+    # side by side: one result per design, same cycle, and the per-design numbers differ
+    panel.arms = arms
+    assert [r.design_name for r in panel.results] == ["kestrel_a", "kestrel_b"]
+    assert not np.allclose(panel.results[0].rms_torque_Nm, panel.results[1].rms_torque_Nm)
+    assert panel.torque_image.layout.display == "none" and panel.error == ""
+
+
+def test_snapshot_of_safety_panels_prints_their_cautions(arm_and_region):
+    from IPython.core.interactiveshell import InteractiveShell
+    from IPython.utils.capture import capture_output
+
+    from inertia_review._cautions import TORQUE_CAUTION
+    from inertia_review.widgets import CyclePanel, snapshot
+
+    InteractiveShell.instance()
+    arm, region = arm_and_region
+    contact = ContactMapPanel(arm, region, body_region="hand", direction=(0.0, 0.0, -1.0))
+    assert contact.error == ""
+    cycle = CyclePanel(arm, sample_rate_hz=100.0)
+    with capture_output() as out_contact:
+        snapshot(contact)
+    with capture_output() as out_cycle:
+        snapshot(cycle)
+    assert CONTACT_CAUTION in out_contact.stdout and "permissible contact speed" in out_contact.stdout
+    assert TORQUE_CAUTION in out_cycle.stdout and "limiting joint" in out_cycle.stdout
+    assert sum("image/png" in o.data for o in out_contact.outputs + out_cycle.outputs) >= 3

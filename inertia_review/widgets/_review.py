@@ -57,7 +57,10 @@ def snapshot(widget, *, title=None):
         display(Image(data=data, format="png"))
     panel = getattr(widget, "panel", widget)
     ds = getattr(panel, "ds", None)
-    caution = TORQUE_CAUTION
+    from .._cautions import CONTACT_CAUTION
+    caution = CONTACT_CAUTION if hasattr(panel, "body_choice") else TORQUE_CAUTION
+    if getattr(panel, "error", ""):
+        print(f"not computed: {panel.error}")
     if ds is not None and "isotropy" in ds:
         print(baseline_table([ds]))
     elif ds is not None and "permissible_speed" in ds:

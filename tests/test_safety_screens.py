@@ -91,3 +91,21 @@ def test_snapshot_of_safety_panels_prints_their_cautions(arm_and_region):
     assert CONTACT_CAUTION in out_contact.stdout and "permissible contact speed" in out_contact.stdout
     assert TORQUE_CAUTION in out_cycle.stdout and "limiting joint" in out_cycle.stdout
     assert sum("image/png" in o.data for o in out_contact.outputs + out_cycle.outputs) >= 3
+
+
+def test_contact_board_follows_the_comparison_board(arm_and_region):
+    from inertia_review.widgets import ComparisonBoard, ContactBoard
+
+    arm, region = arm_and_region
+    other = ir.load_design("designs/kestrel_b.toml")
+    board = ComparisonBoard([arm], region)
+    contact = ContactBoard([arm], region, direction=(0.0, 0.0, -1.0))
+    contact.follow(board)
+    board.add(other)
+    assert [ds.attrs["design"] for ds in contact.maps] == ["kestrel_a", "kestrel_b"]
+    ref = ir.contact_speed_map(other, region, "hand", direction=(0.0, 0.0, -1.0))
+    ok = ref["status"].values == 0
+    np.testing.assert_allclose(contact.maps[1]["permissible_speed"].values[ok],
+                               ref["permissible_speed"].values[ok], rtol=1e-9)
+    assert f"{float(ref['permissible_speed'].values[ok].min()):.3f}" in contact.table.value
+    assert "validation" in contact.table.value and contact.error == ""

@@ -158,7 +158,7 @@ def sizing_and_contact():
                           "task region from the apparent mass along the motion, and the cycle's own "
                           "tool speeds are checked against it.\n\n" + CAUTION_MD + "\n\n" + CONTACT_MD),
         new_code_cell("import numpy as np\nimport inertia_review as ir\nfrom inertia_review import plots\n"
-                      "from inertia_review.widgets import ContactMapPanel, CyclePanel, snapshot\n\n"
+                      "from inertia_review.widgets import ContactBoard, ContactMapPanel, CyclePanel, snapshot\n\n"
                       "names = [\"kestrel_a\", \"kestrel_b\", \"kestrel_c\"]\n"
                       "arms = [ir.load_design(f\"../designs/{n}.toml\") for n in names]\n"
                       "cycles = [ir.design_cycles(a)[0] for a in arms]\n"
@@ -183,10 +183,14 @@ def sizing_and_contact():
                       "    print(f\"{a.name}: {int(check.ok.sum())} of {check.ok.size} samples within the limit; \"\n"
                       "          f\"worst margin {check.margin_mps[w]:.4f} m/s at {check.speeds_mps[w]:.4f} m/s\")"),
         new_markdown_cell("## Panels\nThe cycle panel shows the three alternatives side by side; the "
-                          "contact panel maps a chosen body region. Both show their cautions."),
+                          "contact board compares the permissible hand speed of the alternatives on one scale (with "
+                          "`ContactBoard.follow(board)` it tracks a ComparisonBoard); the contact "
+                          "panel maps a chosen body region. All show their cautions."),
         new_code_cell("cycle_panel = CyclePanel(arms)\ncycle_panel"),
+        new_code_cell("contact_board = ContactBoard(arms, task, body_region=\"hand\")\ncontact_board"),
         new_code_cell("contact_panel = ContactMapPanel(arms[0], task, body_region=\"hand\")\ncontact_panel"),
         new_code_cell("# NBVAL_IGNORE_OUTPUT\nsnapshot(cycle_panel, title=\"cycle torques\")\n"
+                      "snapshot(contact_board, title=\"contact speeds of the alternatives, hand\")\n"
                       "snapshot(contact_panel, title=\"contact speeds, hand\")"),
     ]
 

@@ -14,6 +14,8 @@ ReviewApp, snapshot
     the quick-review layout; static images and text for saved notebooks
 CyclePanel
     move-cycle torques against the ratings (one design, or several side by side)
+ContactBoard
+    permissible contact speed of 2 to 4 alternatives on one scale (follows a ComparisonBoard)
 ContactMapPanel
     permissible transient-contact speed over the region for a body region (with cautions)
 """
@@ -23,9 +25,9 @@ from ._controls import DesignControls, default_parameters
 from ._map_panel import MAP_METRICS, MapPanel, scores_html
 from ._probe import PointProbe
 from ._review import ReviewApp, snapshot
-from ._safety_panels import ContactMapPanel, CyclePanel
+from ._safety_panels import ContactBoard, ContactMapPanel, CyclePanel
 from ._sweep_explorer import SweepExplorer
 
 __all__ = ["DesignControls", "MapPanel", "PointProbe", "ComparisonBoard", "SweepExplorer",
-           "ReviewApp", "snapshot", "ContactMapPanel", "CyclePanel", "default_parameters", "MAP_METRICS", "scores_html",
+           "ReviewApp", "snapshot", "ContactMapPanel", "CyclePanel", "ContactBoard", "default_parameters", "MAP_METRICS", "scores_html",
            "scores_table_html"]

@@ -70,8 +70,15 @@ def snapshot(widget, *, title=None):
               f"{speed.min():.4f} m/s, median {float(np.median(speed)):.4f} m/s")
         caution = ds.attrs.get("caution", caution)
     board_maps = getattr(widget, "maps", None)
-    if board_maps:
+    if board_maps and "isotropy" in board_maps[0]:
         print(baseline_table(board_maps))
+    elif board_maps:
+        for m in board_maps:
+            ok = m["status"].values == 0
+            speed = m["permissible_speed"].values[ok]
+            print(f"{m.attrs.get('design', '')}: permissible contact speed, "
+                  f"{m.attrs.get('body_region_name', '')}: lowest {speed.min():.4f} m/s, "
+                  f"median {float(np.median(speed)):.4f} m/s")
     for result in getattr(widget, "results", None) or []:
         if hasattr(result, "text"):
             print(result.text())

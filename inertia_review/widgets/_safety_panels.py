@@ -10,7 +10,7 @@ from .._cautions import CONTACT_CAUTION
 from .._contact import contact_speed_map, load_body_regions
 from ._map_panel import MapPanel
 
-__all__ = ["ContactMapPanel", "CyclePanel"]
+__all__ = ["ContactMapPanel", "CyclePanel", "ContactBoard"]
 
 _CAUTION_HTML = (f"<div class='ir-caution' style='font-size:85%;color:#7a4b00;max-width:40em'>"
                  f"{html.escape(CONTACT_CAUTION)}</div>")
@@ -100,6 +100,10 @@ class CyclePanel(widgets.VBox):
         self.observe(self._recompute, names=["arms", "cycle_name"])
         self._recompute(None)
 
+    def follow(self, board):
+        """Review the same designs as ``board`` (a ComparisonBoard), now and after changes."""
+        return traitlets.dlink((board, "arms"), (self, "arms"))
+
     def _recompute(self, change):
         from .._cycles import cycle_torques
         from ..plots import plot_cycle_torques, plot_cycle_utilisation
@@ -144,3 +148,65 @@ class CyclePanel(widgets.VBox):
                          f"{r.table().round(3).to_html(classes='ir-cycle-table')}" for r in results)
         self.table.value = tables + (f"<div class='ir-caution' style='font-size:85%;color:#7a4b00;"
                                      f"max-width:40em'>{html.escape(results[0].caution)}</div>")
+
+
+class ContactBoard(widgets.VBox):
+    """Permissible contact speed of 2 to 4 alternatives side by side, on one colour scale.
+
+    Traits: ``arms`` (list of Arm), ``body_region``. Use :meth:`follow` to keep ``arms`` in
+    step with a :class:`ComparisonBoard`. The caution is always shown.
+    """
+
+    arms = traitlets.List(help="the alternatives (1 to 4 arms)")
+    body_region = traitlets.Unicode("hand", help="key of the body-region table")
+    error = traitlets.Unicode("")
+
+    def __init__(self, arms, region, *, body_region="hand", regions=None, direction=None,
+                 **kwargs):
+        self._region = region
+        self._regions = regions if regions is not None else load_body_regions()
+        self._direction = direction
+        self.body_choice = widgets.Dropdown(options=list(self._regions), value=body_region,
+                                            description="body region")
+        self.image = widgets.Image(format="png")
+        self.table = widgets.HTML()
+        self.message = widgets.HTML()
+        self.maps = []
+        super().__init__(children=[self.body_choice, self.image, self.table, self.message],
+                         **kwargs)
+        self.body_region = body_region
+        widgets.link((self.body_choice, "value"), (self, "body_region"))
+        self.arms = list(arms)
+        self.observe(self._recompute, names=["arms", "body_region"])
+        self._recompute(None)
+
+    def follow(self, board):
+        """Show the same designs as ``board`` (a ComparisonBoard), now and after changes."""
+        return traitlets.dlink((board, "arms"), (self, "arms"))
+
+    def _recompute(self, change):
+        from ..plots import plot_small_multiples
+        from ._render import new_figure, png_bytes
+
+        try:
+            maps = [contact_speed_map(arm, self._region, self.body_region,
+                                      direction=self._direction, regions=self._regions)
+                    for arm in self.arms]
+        except (ValueError, KeyError) as exc:
+            self.error = str(exc)
+            self.message.value = (f"<div class='ir-error' style='color:#b00020'>"
+                                  f"{html.escape(str(exc))}</div>")
+            return
+        self.error, self.message.value = "", ""
+        self.maps = maps
+        fig = new_figure(3.6 * len(maps) + 1.0, 3.8)
+        axes = [fig.add_subplot(1, len(maps), i + 1) for i in range(len(maps))]
+        plot_small_multiples(maps, "permissible_speed", axes=axes)
+        self.image.value = png_bytes(fig)
+        rows = "".join(f"<tr><th style='text-align:left'>{html.escape(arm.name)}</th>"
+                       f"<td style='text-align:right'>{_contact_readout(ds)[0]['speed_min_mps']:.3f}"
+                       f"</td><td style='text-align:right'>"
+                       f"{_contact_readout(ds)[0]['speed_median_mps']:.3f}</td></tr>"
+                       for arm, ds in zip(self.arms, maps))
+        self.table.value = ("<table class='ir-scores'><tr><th>design</th><th>lowest [m/s]</th>"
+                            f"<th>median [m/s]</th></tr>{rows}</table>{_CAUTION_HTML}")

@@ -387,12 +387,9 @@ def test_apparent_mass_square_spatial_3_joint(design, data):
     _check_square_lambda(arm, draw_vec(data, 3))
 
 
-@PROP
-@given(design=S.designs(min_joints=2), data=st.data())
-def test_payload_adds_its_mass_to_apparent_mass(design, data):
-    # A point payload m_L at the tool point adds exactly m_L I to Lambda
-    # (Woodbury identity [D], references.md item 4), valid when the tool-point
-    # velocity lies in the task span (default task axes) and Lambda is regular.
+def _regular_pose(design, data):
+    """An arm with at least k joints at a drawn pose whose task Jacobian is well conditioned:
+    (arm, k, q, J_t, singular values of J_t, M)."""
     arm = ir.Arm.from_dict(design)
     k = arm.task_axes.shape[0]
     assume(arm.dof >= k)
@@ -400,7 +397,16 @@ def test_payload_adds_its_mass_to_apparent_mass(design, data):
     jt = _task_jacobian(arm, q)
     s = np.linalg.svd(jt, compute_uv=False)
     assume(s[-1] > 1e-2 * s[0])
-    m = arm.mass_matrix(q)
+    return arm, k, q, jt, s, arm.mass_matrix(q)
+
+
+@PROP
+@given(design=S.designs(min_joints=2), data=st.data())
+def test_payload_adds_its_mass_to_apparent_mass(design, data):
+    # A point payload m_L at the tool point adds exactly m_L I to Lambda
+    # (Woodbury identity [D], references.md item 4), valid when the tool-point
+    # velocity lies in the task span (default task axes) and Lambda is regular.
+    arm, k, q, jt, s, m = _regular_pose(design, data)
     assume(np.linalg.cond(jt @ np.linalg.solve(m, jt.T)) < 1e6)   # see _check_square_lambda
     extra = data.draw(st.floats(0.1, 3.0))
     heavier = copy.deepcopy(design)
@@ -418,14 +424,7 @@ def test_metrics_agree_with_their_definitions(design, data):
     # mass along u = 1/(u^T A J_v M^-1 J_v^T A^T u) (Khatib 1995 [M formula]);
     # isotropy = sigma_min/sigma_max of A J_v (Salisbury & Craig 1982 [C citation]);
     # manipulability = sqrt(det(Jt Jt^T)) (Yoshikawa 1985 [C citation]).
-    arm = ir.Arm.from_dict(design)
-    k = arm.task_axes.shape[0]
-    assume(arm.dof >= k)
-    q = draw_vec(data, arm.dof)
-    jt = _task_jacobian(arm, q)
-    s = np.linalg.svd(jt, compute_uv=False)
-    assume(s[-1] > 1e-2 * s[0])
-    m = arm.mass_matrix(q)
+    arm, k, q, jt, s, m = _regular_pose(design, data)
     mob = jt @ np.linalg.solve(m, jt.T)
     assume(np.linalg.cond(mob) < 1e6)                               # see _check_square_lambda
     lam = np.linalg.inv(mob)

@@ -5,30 +5,60 @@ functions, which broadcast over leading axes of joint angles ``q`` (..., n) [rad
 SI units inside; degrees only in design files and on screen.
 """
 
-from ._api import (acceleration_along, acceleration_capability, apparent_mass, evaluate_metrics,
-                   isotropy_index, manipulability, mass_along, mass_ratio, near_singular,
-                   principal_masses, torque_headroom)
-from ._arm import Arm
-from ._baselines import baseline_table
-from ._builders import planar_chain, yaw_pitch_pitch_arm
-from ._contact import (BodyRegion, BodyRegions, ContactSpeed, SpeedCheck, check_speeds,
-                       contact_speed, contact_speed_map, load_body_regions, permissible_speed,
-                       reduced_mass, simplified_effective_mass, transient_energy_limit,
-                       transient_speed_limit)
-from ._cycles import (MOVE_KINDS, Cycle, CycleTorques, MotionProfile, Move, cycle_from_dict,
-                      cycle_torques, design_cycles, s_curve_profile, trapezoidal_profile)
-from ._design import STANDARD_GRAVITY
-from ._design_io import load_design, save_design
-from ._errors import DesignError
-from ._ik import STATUS, PositionSolution, solve_positions
-from ._map_io import load_results, save_results
-from ._maps import METRIC_ATTRS, metric_map
-from ._materials import MATERIAL_SOURCES, MATERIALS, TubeProperties, tube_properties
-from ._metrics import PrincipalMasses, TorqueHeadroom
-from ._paths import parameter_paths
-from ._regions import Box, PointSet, Rectangle, Task, region_from_dict, task_from_dict
-from ._scores import SCORE_COLUMNS, design_scores, scores_table
-from ._sweeps import Sweep
+from .core._api import (
+                        acceleration_along,
+                        acceleration_capability,
+                        apparent_mass,
+                        evaluate_metrics,
+                        isotropy_index,
+                        manipulability,
+                        mass_along,
+                        mass_ratio,
+                        near_singular,
+                        principal_masses,
+                        torque_headroom,
+)
+from .core._metrics import PrincipalMasses, TorqueHeadroom
+from .model._arm import Arm
+from .model._builders import planar_chain, yaw_pitch_pitch_arm
+from .model._cycle_schema import MOVE_KINDS, Cycle, Move, cycle_from_dict, design_cycles
+from .model._design import STANDARD_GRAVITY
+from .model._design_io import load_design, save_design
+from .model._errors import DesignError
+from .model._materials import (
+                        MATERIAL_SOURCES,
+                        MATERIALS,
+                        TubeProperties,
+                        tube_properties,
+)
+from .model._paths import parameter_paths
+from .model._regions import (
+                        Box,
+                        PointSet,
+                        Rectangle,
+                        Task,
+                        region_from_dict,
+                        task_from_dict,
+)
+from .review._baselines import baseline_table
+from .studies._body_regions import BodyRegion, BodyRegions, load_body_regions
+from .studies._contact_maps import SpeedCheck, check_speeds, contact_speed_map
+from .studies._contact_model import (
+                        ContactSpeed,
+                        contact_speed,
+                        permissible_speed,
+                        reduced_mass,
+                        simplified_effective_mass,
+                        transient_energy_limit,
+                        transient_speed_limit,
+)
+from .studies._cycle_review import CycleTorques, cycle_torques
+from .studies._ik import STATUS, PositionSolution, solve_positions
+from .studies._map_io import load_results, save_results
+from .studies._maps import METRIC_ATTRS, metric_map
+from .studies._profiles import MotionProfile, s_curve_profile, trapezoidal_profile
+from .studies._scores import SCORE_COLUMNS, design_scores, scores_table
+from .studies._sweeps import Sweep
 
 __version__ = "0.1.0"
 

@@ -1,4 +1,4 @@
-"""Permissible transient-contact speeds (``inertia_review._contact``).
+"""Permissible transient-contact speeds (``inertia_review.studies._contact_model`` and ``_contact_maps``).
 
 What is checked, and against what (statuses as in references.md):
 - the shipped body-region table equals the ISO/TS 15066:2016 Annex A values of Tables A.2
@@ -33,7 +33,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import inertia_review as ir
-from inertia_review._cautions import CONTACT_CAUTION
+from inertia_review.studies._cautions import CONTACT_CAUTION
 
 # ISO/TS 15066:2016 Annex A, Table A.2 (F_QS) and Table A.3 (K, m_H), as given in
 # references.md item 6 ([S] secondary sources, agree with memory [M]).

@@ -4,13 +4,13 @@ What is checked, and against what:
 - ``ir.baseline_table``: the same text for the same design computed twice, a fixed number
   of decimals per score, every printed number equal to ``ir.design_scores`` of the map
   rounded to that many decimals, and a clear error naming the known scores;
-- ``inertia_review._notebooks.rebaseline`` and ``write_report`` on small notebooks written
+- ``inertia_review.review._notebooks.rebaseline`` and ``write_report`` on small notebooks written
   here into ``tmp_path`` and executed by a real kernel (the "python3" kernelspec of
   ipykernel, which jupyter_client starts with this interpreter, ``sys.executable``):
   the changed checked cell is reported, ``accept=False`` writes nothing, ``accept=True``
   saves the new output, unchecked cells are not compared, the HTML report embeds the
   figure as a data URI;
-- the ``inertia-review`` command (``inertia_review._cli.main``): ``check`` prints OK for
+- the ``inertia-review`` command (``inertia_review.review._cli.main``): ``check`` prints OK for
   the demo designs and every field path of a broken one (exit status 1), ``summary``
   prints the table and the caution. The moving mass of kestrel_a is redone here by hand
   from its design file: tube mass m = rho pi (R^2 - r^2) L (Machinery's Handbook, 31st
@@ -31,8 +31,8 @@ import pytest
 from nbformat.v4 import new_code_cell, new_markdown_cell, new_notebook
 
 import inertia_review as ir
-from inertia_review import _notebooks
-from inertia_review._cli import main
+from inertia_review.review import _notebooks
+from inertia_review.review._cli import main
 
 DESIGNS = Path(__file__).resolve().parent.parent / "designs"
 

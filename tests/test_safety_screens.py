@@ -9,7 +9,7 @@ import pytest  # noqa: E402
 
 import inertia_review as ir  # noqa: E402
 from inertia_review import plots  # noqa: E402
-from inertia_review._cautions import CONTACT_CAUTION  # noqa: E402
+from inertia_review.studies._cautions import CONTACT_CAUTION  # noqa: E402
 from inertia_review.widgets import ContactMapPanel  # noqa: E402
 
 
@@ -76,7 +76,7 @@ def test_snapshot_of_safety_panels_prints_their_cautions(arm_and_region):
     from IPython.core.interactiveshell import InteractiveShell
     from IPython.utils.capture import capture_output
 
-    from inertia_review._cautions import TORQUE_CAUTION
+    from inertia_review.studies._cautions import TORQUE_CAUTION
     from inertia_review.widgets import CyclePanel, snapshot
 
     InteractiveShell.instance()

@@ -129,7 +129,7 @@ def baselines():
         new_code_cell("# NBVAL_CHECK_OUTPUT\nfor name, arm in arms.items():\n"
                       "    print(ir.baseline_table([ir.metric_map(arm, arm.task)]))\n    print()"),
         new_code_cell("# NBVAL_CHECK_OUTPUT\n# joint-range summary (seeded sampling of the joint limits)\n"
-                      "from inertia_review._summary import joint_range_summary\n"
+                      "from inertia_review.review._summary import joint_range_summary\n"
                       "for name, arm in arms.items():\n"
                       "    row = joint_range_summary(arm, samples=4000, accel_mps2=2.0)\n"
                       "    print(f\"{name:14s} reach {row['reach_mm']:.1f} mm  isotropy mean {row['isotropy_mean']:.4f}  \"\n"

@@ -19,15 +19,31 @@ Apparent-mass ellipses follow Asada's generalized inertia ellipsoid
 x^T Lambda x = 1 (semi-axes 1 / sqrt(mass)): short along heavy directions.
 """
 
-from ._cycle_plots import (CycleTorqueArtists, CycleUtilisationArtists, plot_cycle_torques,
-                           plot_cycle_utilisation)
+from ._cycle_plots import (
+                           CycleTorqueArtists,
+                           CycleUtilisationArtists,
+                           plot_cycle_torques,
+                           plot_cycle_utilisation,
+)
 from ._displays import MassEllipseDisplay, TorqueBarsDisplay
-from ._ellipses import (EllipseField, PrincipalArrows, plane_ellipses, plot_ellipse_field,
-                        plot_principal_directions)
-from ._map_plots import (HeadroomArtists, MapArtists, SmallMultiples, plot_difference_map,
-                         plot_headroom_map, plot_metric_map, plot_small_multiples)
-from ._style import CMAP_DIVERGING, CMAP_SEQUENTIAL, COLORS, plot_style
+from ._ellipses import (
+                           EllipseField,
+                           PrincipalArrows,
+                           plane_ellipses,
+                           plot_ellipse_field,
+                           plot_principal_directions,
+)
+from ._map_plots import (
+                           HeadroomArtists,
+                           MapArtists,
+                           SmallMultiples,
+                           plot_difference_map,
+                           plot_headroom_map,
+                           plot_metric_map,
+                           plot_small_multiples,
+)
 from ._safety_plots import ContactMapArtists, plot_contact_speed_map
+from ._style import CMAP_DIVERGING, CMAP_SEQUENTIAL, COLORS, plot_style
 from ._tradeoff import TradeoffArtists, plot_tradeoff
 
 __all__ = [

@@ -10,8 +10,8 @@ reuse them.
 
 import numpy as np
 
-from .. import _api
-from .._cautions import TORQUE_CAUTION
+from ..core import _api
+from ..studies._cautions import TORQUE_CAUTION
 from . import _style
 from ._ellipses import plane_ellipses
 from ._labels import axis_label

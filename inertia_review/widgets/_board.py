@@ -6,9 +6,9 @@ import ipywidgets as widgets
 import numpy as np
 import traitlets
 
-from .._maps import METRIC_ATTRS, metric_map
-from .._scores import SCORE_COLUMNS, scores_table
 from ..plots import plot_difference_map, plot_small_multiples
+from ..studies._maps import METRIC_ATTRS, metric_map
+from ..studies._scores import SCORE_COLUMNS, scores_table
 from ._map_panel import MAP_METRICS
 from ._render import new_figure, png_bytes
 

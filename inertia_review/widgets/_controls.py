@@ -3,9 +3,9 @@
 import ipywidgets as widgets
 import traitlets
 
-from .._arm import Arm
-from .._errors import DesignError
-from .._paths import get_value, parameter_paths
+from ..model._arm import Arm
+from ..model._errors import DesignError
+from ..model._paths import get_value, parameter_paths
 
 __all__ = ["DesignControls", "default_parameters", "screen_unit"]
 

@@ -6,12 +6,12 @@ import ipywidgets as widgets
 import numpy as np
 import traitlets
 
-from .._arm import Arm
-from .._maps import METRIC_ATTRS, metric_map
-from .._scores import design_scores
+from ..model._arm import Arm
 from ..plots import _map_plots, _style
 from ..plots._labels import variable_label
 from ..plots._plane import grid_values, map_plane, solved_mask
+from ..studies._maps import METRIC_ATTRS, metric_map
+from ..studies._scores import design_scores
 from ._render import new_figure, png_bytes, rgba_png
 
 __all__ = ["MapPanel", "MAP_METRICS", "scores_html"]

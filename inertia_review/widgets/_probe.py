@@ -6,8 +6,8 @@ import ipywidgets as widgets
 import numpy as np
 import traitlets
 
-from .._api import principal_masses, torque_headroom
-from .._arm import Arm
+from ..core._api import principal_masses, torque_headroom
+from ..model._arm import Arm
 from ..plots import MassEllipseDisplay, TorqueBarsDisplay
 from ._render import new_figure, png_bytes
 

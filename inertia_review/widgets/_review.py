@@ -3,8 +3,8 @@
 import ipywidgets as widgets
 import numpy as np
 
-from .._baselines import baseline_table
-from .._cautions import TORQUE_CAUTION
+from ..review._baselines import baseline_table
+from ..studies._cautions import TORQUE_CAUTION
 from ._controls import DesignControls
 from ._map_panel import MapPanel
 from ._probe import PointProbe
@@ -57,7 +57,7 @@ def snapshot(widget, *, title=None):
         display(Image(data=data, format="png"))
     panel = getattr(widget, "panel", widget)
     ds = getattr(panel, "ds", None)
-    from .._cautions import CONTACT_CAUTION
+    from ..studies._cautions import CONTACT_CAUTION
     caution = CONTACT_CAUTION if hasattr(panel, "body_choice") else TORQUE_CAUTION
     if getattr(panel, "error", ""):
         print(f"not computed: {panel.error}")

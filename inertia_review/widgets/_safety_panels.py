@@ -6,8 +6,9 @@ import ipywidgets as widgets
 import numpy as np
 import traitlets
 
-from .._cautions import CONTACT_CAUTION
-from .._contact import contact_speed_map, load_body_regions
+from ..studies._body_regions import load_body_regions
+from ..studies._cautions import CONTACT_CAUTION
+from ..studies._contact_maps import contact_speed_map
 from ._map_panel import MapPanel
 
 __all__ = ["ContactMapPanel", "CyclePanel", "ContactBoard"]
@@ -75,7 +76,7 @@ class CyclePanel(widgets.VBox):
     error = traitlets.Unicode("")
 
     def __init__(self, arms, *, cycle=None, sample_rate_hz=1000.0, **kwargs):
-        from .._cycles import design_cycles
+        from ..model._cycle_schema import design_cycles
 
         arms = [arms] if not isinstance(arms, (list, tuple)) else list(arms)
         self._cycles = {c.name: c for c in design_cycles(arms[0])}
@@ -105,8 +106,8 @@ class CyclePanel(widgets.VBox):
         return traitlets.dlink((board, "arms"), (self, "arms"))
 
     def _recompute(self, change):
-        from .._cycles import cycle_torques
         from ..plots import plot_cycle_torques, plot_cycle_utilisation
+        from ..studies._cycle_review import cycle_torques
         from ._render import new_figure, png_bytes
 
         cycle = self._cycles[self.cycle_name]

@@ -7,8 +7,8 @@ import ipywidgets as widgets
 import numpy as np
 import traitlets
 
-from .._sweeps import Sweep
 from ..plots import plot_tradeoff
+from ..studies._sweeps import Sweep
 from ._controls import default_parameters, screen_unit
 from ._render import new_figure, png_bytes
 
@@ -64,7 +64,7 @@ class SweepExplorer(widgets.VBox):
         self._fill_default(None)
 
     def _default_text(self, path):
-        from .._paths import get_value
+        from ..model._paths import get_value
         value = get_value(self._base.to_dict(), path)
         unit, factor = screen_unit(path)
         if unit == "deg":
@@ -130,7 +130,7 @@ class SweepExplorer(widgets.VBox):
         label = ", ".join(f"{k}={v:.3g}" for k, v in self._best_values().items())
         spec = arm.to_dict()
         spec["name"] = f"{self._base.name} best ({label})"[:60]
-        from .._arm import Arm
+        from ..model._arm import Arm
         arm = Arm.from_dict(spec)
         self._board.add(arm)
         return arm

@@ -6,11 +6,11 @@ every metric is evaluated at once through the shared core terms.
 
 import numpy as np
 
-from . import _dynamics, _metrics
+from ..core import _metrics
+from ..core._layout import to_core
+from ..model._regions import Task
 from ._cautions import TORQUE_CAUTION
 from ._ik import STATUS, solve_positions
-from ._layout import to_core
-from ._regions import Task
 
 __all__ = ["metric_map", "METRIC_ATTRS"]
 

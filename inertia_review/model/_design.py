@@ -11,8 +11,17 @@ import numpy as np
 from ._errors import DesignError
 from ._materials import MATERIALS
 from ._rotation import inertia_tensor
-from ._validate import (Problems, check_keys, get_list, get_number, get_string, get_table,
-                        get_vector, get_vector_item, join)
+from ._validate import (
+    Problems,
+    check_keys,
+    get_list,
+    get_number,
+    get_string,
+    get_table,
+    get_vector,
+    get_vector_item,
+    join,
+)
 
 __all__ = ["normalise_design", "SUPPORTED_FORMATS", "STANDARD_GRAVITY"]
 
@@ -248,7 +257,7 @@ def normalise_design(data, default_name="unnamed"):
         if task is not None:
             out["task"] = _normalise_task(problems, task, len(out["joints"]))
     if "cycles" in data:
-        from ._cycles import normalise_cycles
+        from ._cycle_schema import normalise_cycles
         out["cycles"] = normalise_cycles(problems, data)
     if problems:
         raise DesignError(display_name, problems.items)

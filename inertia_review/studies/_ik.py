@@ -16,9 +16,9 @@ from typing import NamedTuple
 
 import numpy as np
 
-from . import _kinematics
-from ._layout import from_core, to_core
-from ._smallmat import matmul, transpose
+from ..core import _kinematics
+from ..core._layout import from_core, to_core
+from ..core._smallmat import matmul, transpose
 
 __all__ = ["STATUS", "PositionSolution", "solve_positions", "POSTURES"]
 

@@ -3,7 +3,7 @@
 import difflib
 from pathlib import Path
 
-from ._design_io import write_text_atomic
+from ..model._design_io import write_text_atomic
 
 __all__ = ["execute_notebook", "text_outputs", "rebaseline", "write_report"]
 

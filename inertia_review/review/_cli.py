@@ -3,8 +3,8 @@
 import argparse
 import sys
 
-from ._design_io import load_design
-from ._errors import DesignError
+from ..model._design_io import load_design
+from ..model._errors import DesignError
 from ._summary import format_summary_table, joint_range_summary
 
 __all__ = ["main"]

@@ -2,7 +2,7 @@
 
 from pathlib import Path
 
-from ._atomic import atomic_path
+from ..model._atomic import atomic_path
 
 __all__ = ["save_results", "load_results"]
 

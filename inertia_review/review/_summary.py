@@ -6,8 +6,8 @@ row; the region layer gives the same over a task region instead.
 
 import numpy as np
 
-from . import _metrics
-from ._cautions import TORQUE_CAUTION
+from ..core import _metrics
+from ..studies._cautions import TORQUE_CAUTION
 
 __all__ = ["joint_range_summary", "format_summary_table", "SUMMARY_COLUMNS"]
 

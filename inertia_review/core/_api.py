@@ -9,8 +9,8 @@ arm-model.md: nothing raises; unbounded masses are ``inf``.
 import numpy as np
 
 from . import _metrics
+from ._args import check_unit_in_span
 from ._layout import from_core, to_core
-from ._validate import check_unit_in_span
 
 __all__ = ["apparent_mass", "principal_masses", "mass_ratio", "mass_along", "isotropy_index",
            "near_singular", "manipulability", "torque_headroom", "acceleration_capability",

@@ -4,12 +4,12 @@ import copy
 
 import numpy as np
 
-from . import _dynamics, _kinematics
+from ..core import _dynamics, _kinematics
+from ..core._args import check_q
+from ..core._layout import from_core, to_core
 from ._design import normalise_design
 from ._errors import DesignError
-from ._layout import from_core, to_core
 from ._params import build_params
-from ._validate import check_q
 
 __all__ = ["Arm"]
 

@@ -10,8 +10,15 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ._errors import DesignError
-from ._validate import (Problems, check_keys, get_number, get_string, get_vector,
-                        get_vector_item, join)
+from ._validate import (
+    Problems,
+    check_keys,
+    get_number,
+    get_string,
+    get_vector,
+    get_vector_item,
+    join,
+)
 
 __all__ = ["Rectangle", "Box", "PointSet", "Task", "region_from_dict", "task_from_dict",
            "REGION_KINDS"]

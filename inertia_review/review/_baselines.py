@@ -2,7 +2,7 @@
 
 import math
 
-from ._scores import SCORE_COLUMNS, design_scores
+from ..studies._scores import SCORE_COLUMNS, design_scores
 
 __all__ = ["baseline_table"]
 

@@ -11,9 +11,9 @@ from concurrent.futures import FIRST_COMPLETED, ProcessPoolExecutor, wait
 
 import numpy as np
 
-from ._arm import Arm
-from ._errors import DesignError
-from ._paths import get_value
+from ..model._arm import Arm
+from ..model._errors import DesignError
+from ..model._paths import get_value
 from ._scores import SCORE_COLUMNS, design_scores, scores_from_arrays
 
 __all__ = ["Sweep"]

@@ -28,6 +28,7 @@ figure and must not call ``plt.show()``.
 
 import subprocess
 import sys
+from pathlib import Path
 from concurrent.futures import ThreadPoolExecutor
 
 import numpy as np
@@ -362,6 +363,49 @@ def test_drawing_restores_rcparams(plt, irp, planar_map):
         irp.MassEllipseDisplay.from_arm(case_a_arm(), [0.0, 1.0])
         after = snapshot()
     assert {k for k in before if before[k] != after[k]} == set()
+
+
+def test_style_context_keeps_the_interactive_mode(plt, irp):
+    # Under a notebook's inline backend the first figure of a session makes IPython switch
+    # interactive mode on; a plain rc_context would switch it off again on exit, and no
+    # later figure would be shown. The look is restored, the interactive mode is kept.
+    import matplotlib as mpl
+
+    was = mpl.is_interactive()
+    try:
+        for start in (False, True):
+            mpl.interactive(start)
+            with irp.plot_style():
+                assert mpl.rcParams["font.size"] == irp._style.RC["font.size"]
+                mpl.interactive(not start)          # what the backend does while inside
+            assert mpl.is_interactive() is (not start)
+            assert mpl.rcParams["font.size"] == mpl.rcParamsDefault["font.size"]
+        with pytest.raises(RuntimeError), irp.plot_style():     # restored on errors too
+            raise RuntimeError("drawing failed")
+        assert mpl.rcParams["font.size"] == mpl.rcParamsDefault["font.size"]
+    finally:
+        mpl.interactive(was)
+
+
+def test_cycle_torques_figure_through_pyplot_with_the_caution(plt, irp):
+    from inertia_review.studies._cautions import TORQUE_CAUTION
+
+    arm = ir.load_design(Path(__file__).resolve().parents[1] / "designs" / "kestrel_a.toml")
+    result = ir.cycle_torques(arm, ir.design_cycles(arm)[0], sample_rate_hz=50.0)
+    art = irp.plot_cycle_torques(result)
+    assert plt.get_fignums() == [art.figure.number], "a new figure is a pyplot figure"
+    assert " ".join(art.caution.get_text().split()) == " ".join(TORQUE_CAUTION.split())
+    for j, ax in enumerate(art.axes):     # the drawn torque is the result's, per joint
+        assert_allclose(art.lines[j].get_ydata(), result.tau[:, j])
+    assert art.axes[-1].get_xlabel() == "time [s]"
+    # into given Axes: no new figure, the caution under the last panel
+    fig, axes = plt.subplots(len(art.axes), 1)
+    given = irp.plot_cycle_torques(result, axes=axes)
+    assert given.figure is fig and given.caution is not None
+    assert len(plt.get_fignums()) == 2
+    assert irp.plot_cycle_torques(result, axes=axes, caution=False).caution is None
+    with pytest.raises(ValueError, match="expected 3 Axes"):
+        irp.plot_cycle_torques(result, axes=axes[:2])
 
 
 # --------------------------------------------------------------------------

@@ -849,3 +849,80 @@ def test_new_figures_have_no_overlapping_text(irp, planar, planar_map, kestrel):
     _assert_readable(ax.figure, {"title": ax.title, "xlabel": ax.xaxis.label,
                                  "ylabel": ax.yaxis.label,
                                  "cbar": art.colorbar.ax.yaxis.label, "legend": art.legend})
+
+
+# --------------------------------------------------------------------------
+# screens a review meeting looks at
+# --------------------------------------------------------------------------
+def _overlaps(box_a, box_b, tol=1.0):
+    return (min(box_a.x1, box_b.x1) - max(box_a.x0, box_b.x0) > tol and
+            min(box_a.y1, box_b.y1) - max(box_a.y0, box_b.y0) > tol)
+
+
+@pytest.mark.parametrize("where", ["own", "axes", "figure"])
+def test_torque_bar_labels_clear_of_the_legend(plt, irp, kestrel, where):
+    # every per-joint label ("18% of peak ...") stays readable: its box overlaps neither
+    # the legend nor the caution, in a new figure, in a given Axes and in a given figure
+    from inertia_review.widgets._render import new_figure
+
+    arm = kestrel[0][0]
+    q = np.radians([7.5, 45.0, -108.1])
+    if where == "own":
+        bars = irp.TorqueBarsDisplay.from_arm(arm, q, 2.0)
+    elif where == "axes":
+        fig, ax = plt.subplots(figsize=(8.0, 4.0), layout="constrained")
+        bars = irp.TorqueBarsDisplay.from_arm(arm, q, 2.0, ax=ax)
+    else:
+        fig = new_figure(6.0, 4.2, layout=None)            # as the widget's probe does
+        bars = irp.TorqueBarsDisplay.from_arm(arm, q, 2.0, figure=fig)
+        assert bars.figure_ is fig and plt.get_fignums() == []
+    fig = bars.figure_
+    fig.canvas.draw()
+    renderer = fig.canvas.get_renderer()
+    legend = bars.legend_.get_window_extent(renderer)
+    caution = bars.caution_.get_window_extent(renderer)
+    assert len(bars.labels_) == 3
+    for label in bars.labels_:
+        box = label.get_window_extent(renderer)
+        assert not _overlaps(box, legend), f"label {label.get_text()!r} under the legend"
+        assert not _overlaps(box, caution), f"label {label.get_text()!r} under the caution"
+        assert fig.bbox.x0 - 1 <= box.x0 and box.x1 <= fig.bbox.x1 + 1
+    frame = fig.bbox
+    assert caution.y0 >= frame.y0 - 1 and caution.x1 <= frame.x1 + 1, "caution cut off"
+
+
+def test_mass_ellipse_view_fits_the_reach_and_the_region(plt, irp, kestrel):
+    # the view holds the arm, the ellipse and the task region, and is not much larger
+    # than the arm's reach at q (the old fixed view was about 2.3 reaches per side)
+    arm = kestrel[0][0]
+    q = np.radians([7.5, 45.0, -108.1])
+    disp = irp.MassEllipseDisplay.from_arm(arm, q)
+    origins, _ = arm.link_frames(q)
+    points = 1000.0 * np.vstack([origins, arm.tool_position(q)])[:, [0, 2]]
+    reach = float(np.sum(np.linalg.norm(np.diff(points, axis=0), axis=1)))
+    (x0, x1), (y0, y1) = disp.ax_.get_xlim(), disp.ax_.get_ylim()
+    assert max(x1 - x0, y1 - y0) <= 1.3 * reach
+    region = arm.task.region                   # world x-z rectangle of the design's task
+    cx, cz = 1000.0 * region.center_m[0], 1000.0 * region.center_m[2]
+    su, sv = 500.0 * np.asarray(region.size_m)
+    corners = np.array([[cx - su, cz - sv], [cx + su, cz + sv]])
+    inside = np.vstack([points, corners])
+    assert np.all(inside[:, 0] >= x0) and np.all(inside[:, 0] <= x1)
+    assert np.all(inside[:, 1] >= y0) and np.all(inside[:, 1] <= y1)
+    assert_allclose(np.sort(disp.region_.get_xdata()[:-1]), np.sort(
+        [cx - su, cx + su, cx + su, cx - su]), atol=1e-6)
+    half = 0.5 * max(disp.width_mm, disp.height_mm)
+    c = disp.ellipse_.center
+    assert x0 <= c[0] - half and c[0] + half <= x1 and y0 <= c[1] - half and c[1] + half <= y1
+    # an update widens the view if needed and never narrows it
+    limits = (x0, x1, y0, y1)
+    disp.update(np.radians([0.0, 10.0, -20.0]))
+    (a0, a1), (b0, b1) = disp.ax_.get_xlim(), disp.ax_.get_ylim()
+    assert a0 <= limits[0] and a1 >= limits[1] and b0 <= limits[2] and b1 >= limits[3]
+    tip = disp.arm_line_.get_xydata()[-1]
+    assert a0 <= tip[0] <= a1 and b0 <= tip[1] <= b1
+    # without a region, the view fits the arm and the ellipse alone
+    bare = irp.MassEllipseDisplay.from_arm(arm, q, region=None)
+    assert bare.region_ is None
+    with pytest.raises(ValueError, match="`region`"):
+        irp.MassEllipseDisplay.from_arm(arm, q, region="elsewhere")

@@ -121,14 +121,16 @@ class Layout:
     """The Axes to draw into, and where the legend and caution go.
 
     ``ax`` given: draw into it (no new figure); the legend goes inside the Axes and a
-    caution under its x label. ``ax`` None: a new figure (constrained layout) with the
+    caution under its x label. ``figure`` given (an empty Figure, e.g. an off-screen one
+    of a widget): laid out as a new figure, inside it. Otherwise a new pyplot figure
+    (constrained layout), so that a notebook shows it, with the
     main Axes on top and a notes strip below it (Axes off) that holds the legend and the
     caution, sized in :meth:`finish` so nothing overlaps; :meth:`finish` also sizes the
     figure to the data's aspect ratio for equal-aspect plots.
     """
 
     def __init__(self, ax=None, *, width_in=6.4, height_in=5.0, notes=True, equal=False,
-                 nrows=1, sharex=False):
+                 nrows=1, sharex=False, figure=None):
         self.equal = equal
         self.legend_ = None
         self.caution_ = None
@@ -140,10 +142,17 @@ class Layout:
             self.axes, self.ax, self.notes, self.own, self.grid = axes, axes[0], None, False, None
             self.figure = axes[0].figure
             return
-        import matplotlib.pyplot as plt
+        engine = "compressed" if equal else "constrained"
+        if figure is not None:                    # an empty figure of the caller (off-screen)
+            if figure.axes:
+                raise ValueError("`figure` must be empty (the plot lays it out); pass `ax` "
+                                 "to draw into an existing Axes")
+            fig = figure
+            fig.set_layout_engine(engine)
+        else:
+            import matplotlib.pyplot as plt
 
-        fig = plt.figure(figsize=(width_in, height_in),
-                         layout="compressed" if equal else "constrained")
+            fig = plt.figure(figsize=(width_in, height_in), layout=engine)
         self.own, self.figure = True, fig
         self.grid = fig.add_gridspec(nrows + 1 if notes else nrows, 1,
                                      height_ratios=[1.0] * nrows + ([0.05] if notes else []))

@@ -926,3 +926,21 @@ def test_mass_ellipse_view_fits_the_reach_and_the_region(plt, irp, kestrel):
     assert bare.region_ is None
     with pytest.raises(ValueError, match="`region`"):
         irp.MassEllipseDisplay.from_arm(arm, q, region="elsewhere")
+
+
+@pytest.mark.parametrize("ncols", [None, 2])
+def test_small_multiples_every_panel_keeps_its_x_ticks_and_label(plt, irp, kestrel, ncols):
+    arms, maps = kestrel
+    art = irp.plot_small_multiples(maps, "min_margin", ncols=ncols)
+    fig = art.figure
+    fig.canvas.draw()
+    renderer = fig.canvas.get_renderer()
+    for i, ax in enumerate(art.axes):
+        shown = [t for t in ax.get_xticklabels() if t.get_visible() and t.get_text()]
+        assert len(shown) >= 2, f"panel {i} lost its x tick labels"
+        assert ax.get_xlabel() == "x [mm]" and ax.xaxis.label.get_visible()
+        label_box = ax.xaxis.label.get_window_extent(renderer)
+        assert label_box.y0 >= fig.bbox.y0 - 1, f"panel {i}: x label cut off"
+        # the y axis is shared along a row: labelled on the first panel of the row
+        first = i % (ncols or len(maps)) == 0
+        assert (ax.get_ylabel() == "height z [mm]") is first

@@ -930,7 +930,7 @@ def test_mass_ellipse_view_fits_the_reach_and_the_region(plt, irp, kestrel):
 
 @pytest.mark.parametrize("ncols", [None, 2])
 def test_small_multiples_every_panel_keeps_its_x_ticks_and_label(plt, irp, kestrel, ncols):
-    arms, maps = kestrel
+    _, maps = kestrel
     art = irp.plot_small_multiples(maps, "min_margin", ncols=ncols)
     fig = art.figure
     fig.canvas.draw()

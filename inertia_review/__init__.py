@@ -40,7 +40,7 @@ from .model._regions import (
                         region_from_dict,
                         task_from_dict,
 )
-from .review._baselines import baseline_table
+from .review._baselines import baseline_table, scores_view
 from .studies._body_regions import BodyRegion, BodyRegions, load_body_regions
 from .studies._contact_maps import SpeedCheck, check_speeds, contact_speed_map
 from .studies._contact_model import (
@@ -76,7 +76,7 @@ __all__ = [
     "Rectangle", "Box", "PointSet", "Task", "region_from_dict", "task_from_dict",
     "solve_positions", "PositionSolution", "STATUS",
     "metric_map", "METRIC_ATTRS", "design_scores", "scores_table", "SCORE_COLUMNS",
-    "Sweep", "parameter_paths", "save_results", "load_results", "baseline_table",
+    "Sweep", "parameter_paths", "save_results", "load_results", "baseline_table", "scores_view",
     # contact speeds beside people (transient-contact model, ISO/TS 15066:2016 Annex A)
     "load_body_regions", "BodyRegion", "BodyRegions", "reduced_mass", "transient_energy_limit",
     "transient_speed_limit", "simplified_effective_mass", "contact_speed", "permissible_speed",

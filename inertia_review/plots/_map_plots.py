@@ -334,8 +334,13 @@ def plot_small_multiples(maps, metric="mass_ratio", *, axes=None, select=None, c
                                  colorbar=False, title=t, legend=False)
                  for ds, a, t in zip(maps, axes, titles)]
         if own:
-            for a in axes:
-                a.label_outer()
+            # every panel keeps its x tick labels and x label (a panel is read on its own);
+            # the shared y axis is labelled once per row
+            for i, a in enumerate(axes):
+                a.tick_params(labelbottom=True)
+                if i % ncols:
+                    a.tick_params(labelleft=False)
+                    a.set_ylabel("")
         cbar = fig.colorbar(drawn[0].mesh, ax=axes, label=labels.pop(), shrink=0.85)
         reach = next((d.reach for d in drawn if d.reach is not None), None)
         singular = next((d.singular for d in drawn if d.singular is not None), None)

@@ -6,7 +6,7 @@ redone by hand from the map's own variables.
 
 import numpy as np
 
-__all__ = ["design_scores", "scores_from_arrays", "scores_table", "SCORE_COLUMNS"]
+__all__ = ["design_scores", "scores_from_arrays", "scores_table", "SCORE_COLUMNS", "BETTER"]
 
 #: score name -> (units, definition); the order is the table's column order
 SCORE_COLUMNS = {
@@ -25,6 +25,12 @@ SCORE_COLUMNS = {
     "moving_mass_kg": ("kg", "total moving mass: links, point masses and payload"),
 }
 
+
+#: for each score, whether higher is better (True), lower is better (False) or neither (None)
+BETTER = {"reachable_fraction": True, "gci": True, "isotropy_worst": True, "isotropy_p5": True,
+          "mass_ratio_worst": True, "mass_ratio_p5": True, "headroom_worst": True,
+          "headroom_worst_joint": None, "headroom_positive_fraction": True,
+          "accel_capability_min": True, "moving_mass_kg": False}
 
 def _percentile(values, q):
     return float(np.percentile(values, q)) if values.size else np.nan

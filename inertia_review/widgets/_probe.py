@@ -94,16 +94,16 @@ class PointProbe(widgets.VBox):
                            f"{ds['v_m'].values[iv] * 1000:.0f}) mm</b>: joint angles [{angles}] "
                            f"deg; principal apparent masses {mass_text} kg")
         if self._ellipse is None:
-            ax = self._fig_e.add_subplot()
-            self._ellipse = MassEllipseDisplay.from_arm(arm, q, ax=ax)
+            self._ellipse = MassEllipseDisplay.from_arm(arm, q, figure=self._fig_e,
+                                                        region=self.panel._region or "task")
         else:
             self._ellipse._arm = arm
             self._ellipse.update(q)
         rated = np.any(np.isfinite(arm.peak_torque))
         if rated:
             if self._bars is None:
-                ax = self._fig_t.add_subplot()
-                self._bars = TorqueBarsDisplay.from_arm(arm, q, self._accel, ax=ax)
+                self._bars = TorqueBarsDisplay.from_arm(arm, q, self._accel,
+                                                        figure=self._fig_t)
             else:
                 self._bars._arm = arm
                 self._bars.update(q)

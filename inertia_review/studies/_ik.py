@@ -11,7 +11,7 @@ Two solvers, both vectorised over all points at once:
 The branch rule (``posture``) is the elbow's bend, defined by the arm's own geometry
 (``_posture``). Over a grid (``continuation='grid'``) one branch is kept by continuation
 from a seed point; a seam is marked only where the arm cannot keep it. Along a path,
-:func:`follow_positions` continues from a start configuration.
+``_ik_path.follow_positions`` continues from a start configuration.
 
 Points that cannot be solved keep NaN angles and a status code (``STATUS``); nothing
 is dropped or filled in.
@@ -30,8 +30,7 @@ from ..core._smallmat import matmul, transpose
 from ._ik_status import (BEYOND_LIMITS, NO_POSTURE, NOT_CONVERGED, OFF_PLANE, OK,
                          OUT_OF_REACH, SEAM, SOLVED, STATUS)
 
-__all__ = ["STATUS", "SOLVED", "PositionSolution", "solve_positions", "follow_positions",
-           "POSTURES"]
+__all__ = ["STATUS", "SOLVED", "PositionSolution", "solve_positions", "POSTURES"]
 
 POSTURES = ("elbow_up", "elbow_down", "nearest")
 CONTINUATIONS = ("none", "grid")

@@ -270,7 +270,13 @@ def _continue(job, cands, fitted, usable, q, residual, status):
     q_c, solved, r_c = _posture.continue_over_grid(shape, q, fitted, usable, cands.residual,
                                                    refine, gap)
     status = np.where(solved, OK, np.where(status == OK, NOT_CONVERGED, status))
-    status = np.where(_posture.seam_mask(shape, q_c, solved, gap), SEAM, status)
+    def jumps(q_a, q_b, ia, ib):
+        change = np.max(np.abs(q_b - q_a), axis=0)
+        spacing = np.linalg.norm(job.targets[:, ib] - job.targets[:, ia], axis=0)
+        fast = change > _posture.JUMP_RAD * np.maximum(1.0, spacing / _posture.JUMP_SPACING_M)
+        return fast | (gap(q_a, q_b, ia, ib) > _posture.JUMP_RAD)
+
+    status = np.where(_posture.seam_mask(shape, q_c, solved, jumps), SEAM, status)
     return q_c, np.where(solved, r_c, residual), status
 
 

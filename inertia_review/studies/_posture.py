@@ -20,8 +20,10 @@ Continuation (:func:`continue_over_grid`): from a seed point, the solved set gro
 wavefronts over the grid's neighbours (each wavefront one batched step); a new point takes
 the solution continued from a solved neighbour. Where that is impossible (a joint limit or a
 singular boundary), the continuation restarts from the point's own solution on the
-requested branch and the grid edges across which the solution jumps (by more than
-``JUMP_RAD``) are the seam.
+requested branch. The seam is the grid edges across which the solution jumps: some joint
+changes by more than ``JUMP_RAD`` and the first-order prediction does not explain it (a
+change of branch), or it changes by more than ``JUMP_RAD`` per ``JUMP_SPACING_M`` of
+spacing (next to a singular boundary, where the solution turns fast).
 """
 
 import itertools
@@ -35,8 +37,10 @@ __all__ = ["JUMP_RAD", "PostureRule", "posture_rule", "posture_value", "accepts"
            "continue_over_grid", "seam_mask"]
 
 #: Largest deviation [rad] of any joint between neighbouring grid points from the
-#: first-order prediction along a continuous branch (``gap`` below); larger jumps mark a seam.
+#: first-order prediction along a continuous branch (the continuity gap); larger ones mark a
+#: seam, and so do changes larger than JUMP_RAD per JUMP_SPACING_M of grid spacing.
 JUMP_RAD = 0.5
+JUMP_SPACING_M = 0.02
 #: Tolerance of the branch test on the posture value (a sine).
 _TOL = 1e-9
 
@@ -95,11 +99,11 @@ def _neighbours(shape):
     return np.stack(cols, axis=1)
 
 
-def seam_mask(shape, q, solved, gap, jump=JUMP_RAD):
+def seam_mask(shape, q, solved, jumps):
     """Points (N,) at either end of a grid edge (along an axis) whose solutions jump.
 
-    ``q`` (n, N) [rad]; ``solved`` (N,) bool; ``gap(q_a, q_b, ia, ib)`` the continuity gap
-    (m,) [rad] of edges from points ia to ib. An edge jumps where its gap exceeds ``jump``.
+    ``q`` (n, N) [rad]; ``solved`` (N,) bool; ``jumps(q_a, q_b, ia, ib)`` -> (m,) bool, the
+    test of edges from points ia to ib.
     """
     index = np.arange(q.shape[1]).reshape(shape)
     mark = np.zeros(q.shape[1], dtype=bool)
@@ -108,7 +112,7 @@ def seam_mask(shape, q, solved, gap, jump=JUMP_RAD):
         b = np.take(index, np.arange(1, shape[axis]), axis=axis).reshape(-1)
         both = solved[a] & solved[b]
         a, b = a[both], b[both]
-        big = gap(q[:, a], q[:, b], a, b) > jump
+        big = jumps(q[:, a], q[:, b], a, b)
         mark[a[big]] = True
         mark[b[big]] = True
     return mark

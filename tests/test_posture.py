@@ -208,3 +208,25 @@ def test_line_move_that_must_leave_the_limits_names_move_point_and_reason():
 def test_seam_status_is_documented():
     assert ir.STATUS[SEAM] == "branch_seam"
     assert set(ir.SOLVED) == {OK, SEAM}
+
+
+def test_seam_points_are_drawn_on_maps():
+    import matplotlib
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+    from inertia_review.plots import plot_metric_map
+
+    # a coarse grid (100 mm) on the sorter arm: the elbow nears its stretched pose at the
+    # reach boundary, where the solution turns faster than continuity explains
+    arm = ir.load_design(DESIGNS / "sorter_planar.toml")
+    region = ir.Rectangle((0.30, 0.0, 0.10), ((1.0, 0.0, 0.0), (0.0, 0.0, 1.0)), (0.6, 0.5), 0.1)
+    ds = ir.metric_map(arm, region)
+    status = ds["status"].transpose("v_m", "u_m").values
+    assert np.any(status == SEAM)
+    assert np.all(np.isfinite(ds["isotropy"].values[ds["status"].values == SEAM]))
+    fig, ax = plt.subplots()
+    art = plot_metric_map(ds, "isotropy", ax=ax)
+    assert art.seam is not None and art.seam.get_xdata().size == int(np.sum(status == SEAM))
+    labels = [t.get_text() for t in art.legend.get_texts()]
+    assert "branch seam" in labels
+    plt.close(fig)

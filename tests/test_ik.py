@@ -17,11 +17,11 @@ Outside checks used here:
 - reach limits l1 + l2 and |l1 - l2| of a two-link arm (triangle inequality).
 """
 
+import tomllib
 from pathlib import Path
 
 import numpy as np
 import pytest
-import tomllib
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 

@@ -13,11 +13,11 @@ Outside checks used here:
   documented 'elbow_up' branch is q3 < 0 (``test_ik.test_posture_value_by_hand``).
 """
 
+import tomllib
 from pathlib import Path
 
 import numpy as np
 import pytest
-import tomllib
 
 import inertia_review as ir
 
@@ -214,6 +214,7 @@ def test_seam_points_are_drawn_on_maps():
     import matplotlib
     matplotlib.use("Agg")
     import matplotlib.pyplot as plt
+
     from inertia_review.plots import plot_metric_map
 
     # a coarse grid (100 mm) on the sorter arm: the elbow nears its stretched pose at the

@@ -12,7 +12,6 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..studies._ik_status import SOLVED
-
 from ._labels import axis_label
 
 __all__ = ["MapPlane", "map_plane", "grid_values", "solved_mask"]

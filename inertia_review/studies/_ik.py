@@ -23,12 +23,21 @@ import numpy as np
 
 from ..core import _kinematics
 from ..core._layout import from_core, to_core
+from ..core._smallmat import matmul, transpose
 from . import _posture
 from ._ik_closed_form import planar_two_joint
 from ._ik_numeric import SeedPool, dls, fit_limits, reach_bound, solve_small
-from ..core._smallmat import matmul, transpose
-from ._ik_status import (BEYOND_LIMITS, NO_POSTURE, NOT_CONVERGED, OFF_PLANE, OK,
-                         OUT_OF_REACH, SEAM, SOLVED, STATUS)
+from ._ik_status import (
+    BEYOND_LIMITS,
+    NO_POSTURE,
+    NOT_CONVERGED,
+    OFF_PLANE,
+    OK,
+    OUT_OF_REACH,
+    SEAM,
+    SOLVED,
+    STATUS,
+)
 
 __all__ = ["STATUS", "SOLVED", "PositionSolution", "solve_positions", "POSTURES"]
 

@@ -52,7 +52,7 @@ def main(quick=False):
     ds = ir.metric_map(arm, big)
     t_map = min(times)
     print(f"map: {ds.sizes['v_m']} x {ds.sizes['u_m']} points, every metric, IK included: "
-          f"{t_map:.3f} s (best of 5; {int((ds.status == 0).sum())} points solved)")
+          f"{t_map:.3f} s (best of 5; {int(ds.status.isin(ir.SOLVED).sum())} points solved)")
 
     n_ratio, n_tilt, n_payload = (5, 4, 2) if quick else (10, 10, 10)
     count = n_ratio * n_tilt * n_payload

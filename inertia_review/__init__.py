@@ -53,7 +53,7 @@ from .studies._contact_model import (
                         transient_speed_limit,
 )
 from .studies._cycle_review import CycleTorques, cycle_torques
-from .studies._ik import STATUS, PositionSolution, solve_positions
+from .studies._ik import SOLVED, STATUS, PositionSolution, solve_positions
 from .studies._map_io import load_results, save_results
 from .studies._maps import METRIC_ATTRS, metric_map
 from .studies._profiles import MotionProfile, s_curve_profile, trapezoidal_profile
@@ -76,7 +76,7 @@ __all__ = [
     "acceleration_along", "evaluate_metrics",
     # task regions, inverse kinematics, maps, scores and sweeps
     "Rectangle", "Box", "PointSet", "Task", "region_from_dict", "task_from_dict",
-    "solve_positions", "PositionSolution", "STATUS",
+    "solve_positions", "PositionSolution", "STATUS", "SOLVED",
     "metric_map", "METRIC_ATTRS", "design_scores", "scores_table", "SCORE_COLUMNS",
     "Sweep", "parameter_paths", "save_results", "load_results", "baseline_table", "scores_view",
     # design search (batched variants, optimisation under constraints, Pareto sets)

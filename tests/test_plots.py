@@ -137,7 +137,8 @@ def _grid(ds, name, *trailing):
 
 
 def _ok(ds):
-    return _grid(ds, "status") == 0
+    # solved points: 'ok' and 'branch_seam' (solved, next to a jump of the solution)
+    return np.isin(_grid(ds, "status"), ir.SOLVED)
 
 
 def _n_colorbars(fig):

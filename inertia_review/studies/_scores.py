@@ -6,11 +6,13 @@ redone by hand from the map's own variables.
 
 import numpy as np
 
+from ._ik_status import SOLVED
+
 __all__ = ["design_scores", "scores_from_arrays", "scores_table", "SCORE_COLUMNS", "BETTER"]
 
 #: score name -> (units, definition); the order is the table's column order
 SCORE_COLUMNS = {
-    "reachable_fraction": ("1", "share of the region's grid points solved (status ok)"),
+    "reachable_fraction": ("1", "share of the region's grid points solved (status ok or branch_seam)"),
     "gci": ("1", "global conditioning index (Gosselin & Angeles 1991): mean of the isotropy "
                  "index 1/kappa (2-norm condition number of J_t) over the reachable part of "
                  "the region, each grid point weighted by its cell area (or volume)"),
@@ -50,7 +52,7 @@ def design_scores(ds):
 
 def scores_from_arrays(arrays, attrs, joint_names):
     """:func:`design_scores` from the map's arrays and attributes (no Dataset needed)."""
-    ok = (arrays["status"] == 0)
+    ok = np.isin(arrays["status"], SOLVED)           # ok or solved at a branch seam
     iso = arrays["isotropy"][ok]
     ratio = arrays["mass_ratio"][ok]
     weight = np.full(iso.shape, float(attrs.get("cell_measure", 1.0)))

@@ -33,7 +33,10 @@ from ..model._errors import DesignError
 from ..model._params import ArmParams, build_params
 from ..model._paths import apply_values
 from ..model._regions import Task
-from ._ik import NOT_CONVERGED, OK, OUT_OF_REACH, _posture_value, _reach_bound, solve_positions
+from ._ik import NOT_CONVERGED, OK, OUT_OF_REACH, solve_positions
+from ._ik_status import SOLVED
+from ._ik_numeric import reach_bound as _reach_bound, solve_small as _solve_small
+from ._posture import PostureRule, accepts, posture_rule, posture_value
 from ._scores import scores_from_arrays
 
 __all__ = ["stack_params", "score_variants", "variant_params"]
@@ -78,14 +81,6 @@ def variant_params(spec, values, payload_kg=None):
     return out, build_params(out)
 
 
-class _Shared:
-    """The shared fields ``_posture_value`` reads (task axes and gravity)."""
-
-    def __init__(self, task_axes, gravity):
-        self.task_axes = task_axes
-        self.gravity = gravity
-
-
 def _continue(params, q, targets, *, tolerance, max_iterations):
     """Damped least-squares steps from warm starts, all configurations at once.
 
@@ -117,7 +112,6 @@ def _continue(params, q, targets, *, tolerance, max_iterations):
         jac = np.einsum("ki,inN->knN", a, _kinematics.jacobian(frames)[:3])
         lam = np.minimum(sub_damp, 10.0 * norm)
         jjt = matmul(jac, transpose(jac)) + (lam * lam) * np.eye(a.shape[0])[:, :, None]
-        from ._ik import _solve_small
         step = np.sum(jac * _solve_small(jjt, err)[:, None, :], axis=0)
         step_norm = np.sqrt(np.sum(step * step, axis=0))
         step = step * np.minimum(1.0, 0.5 / np.maximum(step_norm, 1e-300))[None]
@@ -233,7 +227,7 @@ def _score_group(group, pts, region, accel, posture, table_size, tol, iters, pre
         warm = None if previous is None or previous.shape != (count, n) else previous
         sol = _solve_one(aspec, aparams, pts, posture, table_size, warm, tol, iters)
         start = sol.q                                             # (P, n)
-        previous = np.where(sol.status[:, None] == OK, sol.q, np.nan)
+        previous = np.where(np.isin(sol.status, SOLVED)[:, None], sol.q, np.nan)
         have = np.isfinite(start[:, 0])
         if np.any(have) and not np.all(have):   # unsolved points start from the nearest solved one
             from scipy.spatial import cKDTree
@@ -245,10 +239,12 @@ def _score_group(group, pts, region, accel, posture, table_size, tol, iters, pre
         rel = (np.tile(pts.T, (1, v_count)) - batched.mount_position)
         q0 = np.tile(np.where(have[:, None], start, 0.0).T, (1, v_count))
         q_c, residual = _continue(batched, q0, rel, tolerance=tol, max_iterations=iters)
-        shared = _Shared(batched.task_axes, params_list[0].gravity)
-        pval = _posture_value(shared, _kinematics.forward(batched, q_c), n - 1)
+        rules = [posture_rule(p) for p in params_list]        # each variant's own rule
+        rule = PostureRule(rules[0].shoulder, rules[0].elbow,
+                           np.repeat([r.sign for r in rules], count))
+        pval = posture_value(rule, _kinematics.forward(batched, q_c))
         good = (residual <= tol * 10.0) & np.tile(have, v_count)
-        good &= (pval > -1e-12) if posture == "elbow_up" else (pval < 1e-12)
+        good &= accepts(posture, pval)
         good = good.reshape(v_count, count)
         q[:] = np.moveaxis(q_c.reshape(n, v_count, count), 0, -1)
         for v, (_, vspec, params) in enumerate(group):
@@ -272,8 +268,8 @@ def _score_group(group, pts, region, accel, posture, table_size, tol, iters, pre
             sol = _solve_one(vspec, params, pts, posture, table_size, previous, tol, iters)
             q[v], status[v] = sol.q, sol.status
             if n != 2 or k != 2:
-                previous = np.where(sol.status[:, None] == OK, sol.q, np.nan)
-    ok = (status == OK).reshape(-1)
+                previous = np.where(np.isin(sol.status, SOLVED)[:, None], sol.q, np.nan)
+    ok = np.isin(status, SOLVED).reshape(-1)
     flat_q = q.reshape(-1, n)
     rated_any = [bool(np.any(np.isfinite(p.peak_torque))) for p in params_list]
     values = {"isotropy": np.full(ok.size, np.nan), "mass_ratio": np.full(ok.size, np.nan),

@@ -7,8 +7,8 @@ import numpy as np
 import traitlets
 
 from ..core._api import principal_masses, torque_headroom
-from ..model._arm import Arm
 from ..plots import MassEllipseDisplay, TorqueBarsDisplay
+from ..studies._ik_status import SOLVED
 from ._render import new_figure, png_bytes
 
 __all__ = ["PointProbe"]
@@ -78,7 +78,7 @@ class PointProbe(widgets.VBox):
             return
         iv, iu = self.panel.probe_index
         status = int(ds["status"].values[iv, iu])
-        if status != 0:
+        if status not in SOLVED:                      # 'ok' and 'branch_seam' are solved
             meaning = ds["status"].attrs["flag_meanings"].split()[status]
             self.q = None
             self.text.value = (f"<b>point ({ds['u_m'].values[iu] * 1000:.0f}, "

@@ -47,8 +47,8 @@ def _problems(data, **kwargs):
 # ---------------------------------------------------------------------------
 BAD_REGIONS = [
     # (changes to RECT, field path, pattern of the reason)
-    (dict(spacing_m=0.0), "task.region.spacing_m", r"> 0"),
-    (dict(spacing_m=-0.01), "task.region.spacing_m", r"> 0"),
+    (dict(spacing_m=0.0), "task.region.spacing_m", r">= 1e-06"),
+    (dict(spacing_m=-0.01), "task.region.spacing_m", r">= 1e-06"),
     (dict(spacing_m=True), "task.region.spacing_m", r"number.*boolean"),
     (dict(spacing_m=float("nan")), "task.region.spacing_m", r"finite"),
     (dict(kind="circle"), "task.region.kind", r"rectangle, box, points"),
@@ -169,7 +169,7 @@ def test_design_file_with_bad_task_region_names_field(tmp_path):
     d["task"]["region"]["spacing_m"] = -0.005
     path = tmp_path / "bad_task.toml"
     path.write_text(tomli_w.dumps(d))
-    with pytest.raises(ir.DesignError, match=r"task\.region\.spacing_m: must be > 0") as info:
+    with pytest.raises(ir.DesignError, match=r"task\.region\.spacing_m: must be >= 1e-06") as info:
         ir.load_design(path)
     assert [p for p, _ in info.value.problems] == ["task.region.spacing_m"]
 

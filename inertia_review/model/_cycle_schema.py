@@ -122,7 +122,7 @@ def _point_ref(problems, move, key, path, points, required):
             problems.add(field_path, f"unknown point '{value}'; {hint}")
             return value, None
         return value, points[value]
-    vec = get_vector(problems, move, key, path, 3)
+    vec = get_vector(problems, move, key, path, 3, name="points_m")
     return (None if vec is None else list(vec)), vec
 
 
@@ -136,7 +136,7 @@ def _normalise_cycle(problems, cycle, path):
         points = None
     else:
         for pname in raw_points:
-            vec = get_vector(problems, raw_points, pname, join(path, "points_m"), 3)
+            vec = get_vector(problems, raw_points, pname, join(path, "points_m"), 3, name="points_m")
             if vec is not None:
                 points[pname] = vec
         out["points_m"] = {k: list(v) for k, v in points.items()}

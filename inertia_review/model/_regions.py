@@ -30,6 +30,10 @@ DEFER = object()
 _MAX_POINTS = 2_000_000
 
 
+#: Finest grid spacing [m] accepted (1 micrometre; common practice, no source).
+MIN_SPACING_M = 1.0e-6
+
+
 def _orthonormal(rows, field_name, problems):
     a = np.array(rows, float)
     if np.max(np.abs(a @ a.T - np.eye(len(rows)))) > 1e-9:
@@ -190,7 +194,7 @@ def _parse_region(problems, data, path, default_axes):
     if size is not None and min(size) < 0.0:
         problems.add(join(path, "size_m"), f"side lengths must be >= 0; got {list(size)}")
         size = None
-    spacing = get_number(problems, data, "spacing_m", path, low=0.0, low_open=True)
+    spacing = get_number(problems, data, "spacing_m", path, low=MIN_SPACING_M)
     axes = None
     if "axes" in data:
         rows = data["axes"]
@@ -218,7 +222,7 @@ def _parse_region(problems, data, path, default_axes):
         return None
     count = np.prod([np.floor(s / spacing + 1e-9) + 1 for s in size])
     if count > _MAX_POINTS:
-        problems.add(join(path, "spacing_m"), f"gives {int(count):,} grid points, more than the "
+        problems.add(join(path, "spacing_m"), f"gives {count:,.0f} grid points, more than the "
                                               f"{_MAX_POINTS:,} allowed; use a coarser spacing")
         return None
     axes = tuple(tuple(float(x) for x in row) for row in axes)

@@ -9,6 +9,7 @@ problems at the end.
 
 import difflib
 import math
+import sys
 from numbers import Real
 
 __all__ = ["Problems", "join", "check_keys", "get_number", "get_vector", "get_vector_item",
@@ -61,6 +62,70 @@ def check_keys(problems, table, allowed, path):
         problems.add(join(path, key), f"unknown key{hint}")
 
 
+#: Bounds of physical sense, by the unit suffix of a field's name: (largest magnitude, what it
+#: is). Far beyond any arm this tool reviews (common practice, no source), and small enough
+#: that products of a few such values stay finite in float64. Ratings and rates divide
+#: (load / rating, distance / speed): for their suffixes (``DIVISOR_SUFFIXES``) subnormal
+#: magnitudes are refused too; grid spacings carry their own lower bound.
+PHYSICAL_LIMITS = {
+    "_m": (100.0, "100 m, far beyond any arm's size"),
+    "_kg": (1.0e4, "10,000 kg"),
+    "_kgm2": (1.0e4, "10,000 kg m^2"),
+    "_Nm": (1.0e6, "1e6 N m"),
+    "_Nm_per_rad": (1.0e10, "1e10 N m/rad"),
+    "_deg": (1.0e4, "10,000 degrees"),
+    "_mps": (1.0e3, "1,000 m/s"),
+    "_mps2": (1.0e4, "10,000 m/s^2"),
+    "_mps3": (1.0e7, "1e7 m/s^3"),
+    "_dps": (1.0e6, "1e6 deg/s"),
+    "_dps2": (1.0e8, "1e8 deg/s^2"),
+    "_dps3": (1.0e10, "1e10 deg/s^3"),
+    "_s": (1.0e6, "1e6 s"),
+    "_rpm": (1.0e6, "1e6 rpm"),
+    "_ratio": (1.0e6, "1e6"),
+    "_Pa": (1.0e12, "1e12 Pa"),
+    "_GPa": (1.0e4, "10,000 GPa"),
+    "_kgpm3": (1.0e5, "1e5 kg/m^3"),
+}
+#: Fields holding directions (normalised by the reader): entries up to this magnitude.
+DIRECTION_FIELDS = ("axis", "axes", "approach", "direction")
+DIRECTION_LIMIT = 1.0e6
+
+
+DIVISOR_SUFFIXES = ("_Nm", "_Nm_per_rad", "_rpm", "_ratio", "_mps", "_mps2", "_mps3", "_dps",
+                    "_dps2", "_dps3", "_s")
+
+
+def physical_limit(name):
+    """(largest magnitude, description) for a field name by its unit suffix, or None."""
+    if not isinstance(name, str):
+        return None
+    best = None
+    for suffix, limit in PHYSICAL_LIMITS.items():
+        if name.endswith(suffix) and (best is None or len(suffix) > len(best[0])):
+            best = (suffix, limit)
+    return None if best is None else best[1]
+
+
+def _beyond_sense(name, value):
+    """The reason ``value`` is beyond physical sense for field ``name``, or None."""
+    if name in DIRECTION_FIELDS:
+        if abs(value) > DIRECTION_LIMIT:
+            return (f"direction entries must be at most {DIRECTION_LIMIT:g} in magnitude "
+                    f"(the direction is normalised); got {value:g}")
+        return None
+    limit = physical_limit(name)
+    if limit is None:
+        return None
+    if abs(value) > limit[0]:
+        return f"magnitude must be at most {limit[1]} (a bound of physical sense); got {value:g}"
+    if (0.0 < abs(value) < sys.float_info.min
+            and any(name.endswith(suffix) for suffix in DIVISOR_SUFFIXES)):
+        return (f"nonzero magnitude must be at least {sys.float_info.min:g} (a subnormal "
+                f"number overflows where it divides); got {value:g}")
+    return None
+
+
 def _is_number(value):
     return isinstance(value, Real) and not isinstance(value, bool)
 
@@ -91,6 +156,10 @@ def get_number(problems, table, key, path, *, default=_MISSING, low=None, low_op
     if not math.isfinite(value):
         problems.add(field, f"must be finite; got {value}")
         return None
+    reason = _beyond_sense(key, value)
+    if reason:
+        problems.add(field, reason)
+        return None
     if low is not None and (value < low or (low_open and value == low)):
         problems.add(field, f"must be {'>' if low_open else '>='} {low:g}; got {value:g}")
         return None
@@ -100,9 +169,11 @@ def get_number(problems, table, key, path, *, default=_MISSING, low=None, low_op
     return value
 
 
-def get_vector(problems, table, key, path, length, *, default=_MISSING):
-    """A list of ``length`` finite numbers, as a tuple of floats."""
+def get_vector(problems, table, key, path, length, *, default=_MISSING, name=None):
+    """A list of ``length`` finite numbers, as a tuple of floats (``name`` sets the unit
+    suffix for the bounds of physical sense when ``key`` is an index)."""
     field = join(path, key)
+    name = key if name is None else name
     found, value = _present(problems, table, key, path, default)
     if not found:
         return value
@@ -122,13 +193,18 @@ def get_vector(problems, table, key, path, length, *, default=_MISSING):
         if not math.isfinite(item):
             problems.add(f"{field}[{i}]", f"must be finite; got {item}")
             return None
+        reason = _beyond_sense(name, item)
+        if reason:
+            problems.add(f"{field}[{i}]", reason)
+            return None
         out.append(item)
     return tuple(out)
 
 
 def get_vector_item(problems, rows, index, path, length):
     """Entry ``index`` of a list of vectors, checked as a vector; its path is ``path[index]``."""
-    return get_vector(problems, {index: rows[index]}, index, path, length)
+    return get_vector(problems, {index: rows[index]}, index, path, length,
+                      name=path.rsplit(".", 1)[-1])
 
 
 def get_string(problems, table, key, path, *, default=_MISSING):

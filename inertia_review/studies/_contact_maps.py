@@ -139,7 +139,7 @@ def contact_speed_map(arm, region_or_task=None, body_region="hand", *, direction
     arm_used = arm if payload_kg is None else arm.with_values({"tool.payload_kg": float(payload_kg)})
 
     base = metric_map(arm_used, region_or_task, approach=u, **map_options)
-    solved = (base["status"] == 0).values
+    solved = np.isin(base["status"].values, SOLVED)
     m_along = base["mass_along_approach"].values
     if effective_mass == "simplified":
         m_r = np.where(solved, _simplified_mass(arm_used), np.nan)

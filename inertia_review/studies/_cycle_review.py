@@ -176,8 +176,16 @@ def _jdot_times(arm, q, v, step=1e-5):
     return np.einsum("...ij,...j->...i", (jp - jm) / (2.0 * step), u) * speed * speed
 
 
-def _grid(duration, rate):
+#: Most samples of one move or dwell; more means a speed, acceleration or dwell out of sense.
+MAX_SAMPLES = 1_000_000
+
+
+def _grid(duration, rate, what="move"):
     """Sub-interval count, length and midpoints of [0, duration] at no more than 1 / rate."""
+    if not duration * rate <= MAX_SAMPLES:
+        raise ValueError(f"{what} lasts {duration:.6g} s: more than {MAX_SAMPLES:,} samples at "
+                         f"{rate:g} samples/s; raise its speed or acceleration limits (or "
+                         "shorten the dwell)")
     count = max(1, int(math.ceil(duration * rate - 1e-9)))
     h = duration / count
     return count, h, (np.arange(count) + 0.5) * h
@@ -191,7 +199,7 @@ def _line_move(arm, cycle, index, move, q_start, posture, rate):
         prof = trapezoidal_profile(length, move.speed_mps, move.accel_mps2)
     else:
         prof = s_curve_profile(length, move.speed_mps, move.accel_mps2, move.jerk_mps3)
-    count, h, t = _grid(prof.duration, rate)
+    count, h, t = _grid(prof.duration, rate, f"cycle '{cycle.name}', move {index} ({move.label})")
     s, sd, sdd = prof.sample(t)
     # the branch the move starts in, continued along the path: knots every ~25 mm, each
     # solved from the last; then all samples at once from the knots interpolated
@@ -282,7 +290,7 @@ def _joint_move(arm, cycle, index, move, q_start, posture, rate):
         prof = trapezoidal_profile(1.0, sd_max, sdd_max)
     else:
         prof = s_curve_profile(1.0, sd_max, sdd_max, sddd_max)
-    count, h, t = _grid(prof.duration, rate)
+    count, h, t = _grid(prof.duration, rate, f"cycle '{cycle.name}', move {index} ({move.label})")
     s, sd, sdd = prof.sample(t)
     q = q_start + s[:, None] * dq
     return prof, t, h, q, sd[:, None] * dq, sdd[:, None] * dq, q_end
@@ -352,7 +360,7 @@ def cycle_torques(arm, cycle, *, sample_rate_hz=1000.0, posture="elbow_up"):
                       q, qd, qdd))
         offset += prof.duration
         if move.dwell_s > 0.0:
-            count, hd, td = _grid(move.dwell_s, rate)
+            count, hd, td = _grid(move.dwell_s, rate, f"cycle '{cycle.name}', dwell after move {i}")
             rest = np.broadcast_to(q_end, (count, n))
             zero = np.zeros((count, n))
             parts.append((offset + td, np.full(count, hd), np.full(count, i),

@@ -25,7 +25,7 @@ from ..core import _kinematics
 from ..core._layout import from_core, to_core
 from ..core._smallmat import matmul, transpose
 from . import _posture
-from ._ik_closed_form import planar_two_joint
+from ._ik_closed_form import _planar_geometry, planar_two_joint
 from ._ik_numeric import SeedPool, dls, fit_limits, reach_bound, solve_small
 from ._ik_status import (
     BEYOND_LIMITS,
@@ -105,6 +105,10 @@ def _prepare(arm, points, posture, reference_deg, tool_angle_deg, elbow_joint, m
     if method == "closed_form" and not (n == 2 and k == 2):
         raise ValueError("the closed-form solver is for two-joint planar arms")
     closed = method == "closed_form" or (method == "auto" and n == 2 and k == 2)
+    if closed and min(np.linalg.norm(r) for r in _planar_geometry(params)[1:3]) < 1e-9:
+        if method == "closed_form":
+            raise ValueError("the closed-form solver needs two links of nonzero length")
+        closed = False                      # a zero-length link: the numeric solver copes
     warm = None
     if initial_q is not None:
         warm = np.asarray(initial_q, float).reshape(-1, n)

@@ -24,6 +24,7 @@ from ._contact_model import (
     _simplified_mass,
     contact_speed,
 )
+from ._ik_status import SOLVED
 
 __all__ = ["contact_speed_map", "SpeedCheck", "check_speeds"]
 
@@ -170,7 +171,7 @@ def contact_speed_map(arm, region_or_task=None, body_region="hand", *, contact_a
     arm_used = arm if payload_kg is None else arm.with_values({"tool.payload_kg": float(payload_kg)})
 
     base = metric_map(arm_used, region_or_task, approach=u, **map_options)
-    solved = (base["status"] == 0).values
+    solved = np.isin(base["status"].values, SOLVED)     # incl. branch-seam points (valid q)
     m_along = base["mass_along_approach"].values
     if effective_mass == "simplified":
         m_r = np.where(solved, _simplified_mass(arm_used), np.nan)
@@ -407,7 +408,7 @@ def check_speeds(speed_map_or_arm, points, speeds, *, q=None, directions=None,
         q, status = solution.q, solution.status
     else:
         status = np.zeros(batch, dtype=np.int8)
-    solved = status == 0
+    solved = np.isin(status, SOLVED)
 
     m_r = np.full(batch, np.nan)
     if model == "simplified":

@@ -271,6 +271,20 @@ def test_annex_a_check_values_at_12_kg(key):
         (mu, energy, speed), rel=1e-6)
 
 
+def test_hand_check_value_to_ten_digits():
+    # references.md item 6 [D] gives the hand at m_R = 12 kg to 10 digits: 1.352528496 m/s.
+    # By hand from Table A.2/A.3 (ISO/TS 15066:2016 Annex A [S]): m_H = 0.6 kg, K = 75 N/mm,
+    # F_T = 280 N -> mu = 0.6 * 12 / 12.6 = 4/7 kg, E = 280^2 / (2 * 75000) = 0.5226 J,
+    # v = 280 / sqrt(4/7 * 75000) = 280 / sqrt(3e5 / 7)
+    v = ir.transient_speed_limit(280.0, 75.0, 0.6, 12.0)
+    assert v == pytest.approx(1.352528496, rel=1e-9)
+    assert v == pytest.approx(280.0 / math.sqrt(3.0e5 / 7.0), rel=1e-12)
+    assert ir.reduced_mass(0.6, 12.0) == pytest.approx(4.0 / 7.0, rel=1e-12)
+    assert ir.transient_energy_limit(280.0, 75.0) == pytest.approx(78400.0 / 150000.0, rel=1e-12)
+    r = ir.contact_speed("hand", ir.simplified_effective_mass(20.0, 2.0), contact_area_cm2=A_FORCE)
+    assert r.speed_mps == pytest.approx(1.352528496, rel=1e-9) and r.governing_route == "force"
+
+
 def test_upper_arm_closed_form():
     # references.md item 6 [D]: upper arm at 12 kg gives sqrt(5)/2 exactly
     assert ir.contact_speed("upper_arm", 12.0, contact_area_cm2=A_FORCE).speed_mps == pytest.approx(math.sqrt(5) / 2, rel=1e-12)

@@ -70,3 +70,24 @@ def test_line_move_rates_are_the_profile(arm, reference, jerk):
     assert np.linalg.norm(xd, axis=1).max() <= 0.3 * (1 + 1e-9)
     assert np.linalg.norm(xdd, axis=1).max() <= 1.5 * (1 + 1e-9)
     assert np.linalg.norm(xdd, axis=1).max() >= 1.5 * (1 - 1e-2)        # the limit is reached
+
+
+def test_joint_move_with_tool_limits_at_every_sample(arm, reference):
+    # a joint move with tool limits: the exact tool speed J qd and acceleration J qdd + J-dot qd
+    # (symbolic kinematics) stay within 0.4 m/s and 1.2 m/s^2 at every sample (largest value)
+    sym, jdot_qd = reference
+    cycle = ir.cycle_from_dict({
+        "name": "j", "points_m": {"a": [0.45, 0.05, 0.30], "b": [0.25, 0.05, 0.06]},
+        "moves": [{"from": "a", "to": "b", "kind": "joint", "speed_mps": 0.4,
+                   "accel_mps2": 1.2}]})
+    res = ir.cycle_torques(arm, cycle, sample_rate_hz=2000.0)
+    jac = sym.evaluate(res.q).jacobian[..., :3, :]
+    xd = np.einsum("...ij,...j->...i", jac, res.qd)
+    xdd = np.einsum("...ij,...j->...i", jac, res.qdd) + jdot_qd(res.q, res.qd)
+    np.testing.assert_allclose(res.tool_velocity, xd, rtol=0, atol=1e-9 * 0.4)
+    assert np.linalg.norm(xd, axis=1).max() <= 0.4 * (1 + 1e-9)
+    assert np.linalg.norm(xdd, axis=1).max() <= 1.2 * (1 + 1e-9)
+    # on the joint line q = q_a + s dq: qd and qdd are parallel to dq at every sample
+    dq = res.move_end_q[0] - res.move_start_q[0]
+    for rate in (res.qd, res.qdd):
+        np.testing.assert_allclose(np.cross(rate, dq), 0.0, atol=1e-9 * np.abs(rate).max() * np.abs(dq).max())

@@ -41,12 +41,13 @@ from .model._regions import (
                         task_from_dict,
 )
 from .review._baselines import baseline_table, scores_view
-from .studies._body_regions import BodyRegion, BodyRegions, load_body_regions
+from .studies._body_regions import BodyArea, BodyRegion, BodyRegions, load_body_regions
 from .studies._contact_maps import SpeedCheck, check_speeds, contact_speed_map
 from .studies._contact_model import (
                         ContactSpeed,
                         contact_speed,
                         permissible_speed,
+                        pressure_speed_limit,
                         reduced_mass,
                         simplified_effective_mass,
                         transient_energy_limit,
@@ -82,8 +83,9 @@ __all__ = [
     # design search (batched variants, optimisation under constraints, Pareto sets)
     "DesignSearch", "pareto_mask", "score_variants",
     # contact speeds beside people (transient-contact model, ISO/TS 15066:2016 Annex A)
-    "load_body_regions", "BodyRegion", "BodyRegions", "reduced_mass", "transient_energy_limit",
-    "transient_speed_limit", "simplified_effective_mass", "contact_speed", "permissible_speed",
+    "load_body_regions", "BodyRegion", "BodyArea", "BodyRegions", "reduced_mass",
+    "transient_energy_limit", "transient_speed_limit", "pressure_speed_limit",
+    "simplified_effective_mass", "contact_speed", "permissible_speed",
     "contact_speed_map", "check_speeds", "ContactSpeed", "SpeedCheck",
     # move cycles for actuator sizing (motion profiles, cycle torques)
     "trapezoidal_profile", "s_curve_profile", "MotionProfile", "Move", "Cycle", "MOVE_KINDS",

@@ -135,7 +135,7 @@ def test_mutated_designs_fail_clearly_or_run_cleanly(case):
             assert np.all(np.isfinite(values)), f"{name}: {var} not finite at solved points"
             assert np.all(np.isnan(ds[var].values[~solved]))
         try:
-            contact = ir.contact_speed_map(arm, arm.task)
+            contact = ir.contact_speed_map(arm, arm.task, contact_area_cm2=1.0)
         except ValueError as err:        # a planar task without the default vertical approach
             assert "direction" in str(err), err
         else:

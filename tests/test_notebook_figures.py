@@ -119,7 +119,7 @@ ds = maps[0]
 res = ir.Sweep(arm, vary={{"derived.link_ratio": [0.8, 1.2], "mount.rpy_deg[1]": [0.0, 20.0]}},
                region=ir.Rectangle(r.center_m, r.axes, r.size_m, 0.08), progress=False).run()
 cycle = ir.cycle_torques(arm, ir.design_cycles(arm)[0], sample_rate_hz=50.0)
-contact = ir.contact_speed_map(arm, region, "hand", direction=(0.0, 0.0, -1.0))
+contact = ir.contact_speed_map(arm, region, "hand", contact_area_cm2=1.0, direction=(0.0, 0.0, -1.0))
 q = np.radians([10.0, 30.0, -60.0])
 """
 

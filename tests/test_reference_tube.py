@@ -100,9 +100,9 @@ def test_tube_thick_versus_thin_wall():
     assert thin_transverse == pytest.approx(0.0154036339, rel=1e-9)
     assert thin_axial == pytest.approx(5.890735e-4, rel=1e-6)
     Ixx, Iyy = tp.inertia_kgm2[0], tp.inertia_kgm2[1]
-    assert Iyy - thin_transverse == pytest.approx(m * t**2 / 8, rel=1e-6)
+    assert Iyy - thin_transverse == pytest.approx(m * t**2 / 8, rel=1e-9)   # exact identity
     assert Iyy - thin_transverse == pytest.approx(8.159e-7, rel=1e-3)
-    assert Ixx - thin_axial == pytest.approx(m * t**2 / 4, rel=1e-6)
+    assert Ixx - thin_axial == pytest.approx(m * t**2 / 4, rel=1e-9)   # exact identity
     assert Ixx - thin_axial == pytest.approx(1.632e-6, rel=1e-3)
 
 

@@ -177,17 +177,24 @@ def sizing_and_contact():
         new_code_cell("plots.plot_cycle_torques(results[0]);"),
         new_code_cell("for r in results:\n    plots.plot_cycle_utilisation(r)"),
         new_markdown_cell("## Permissible contact speed over the task region"),
-        new_code_cell("task = arms[0].task\nmaps = {(a.name, body): ir.contact_speed_map(a, task, body)\n"
+        new_markdown_cell("The contact area is the smaller of the gripper's and the body's contact "
+                          "surface; here a 1 cm² jaw edge (an invented value for the Kestrel gripper). "
+                          "Each speed is the lower of the force and the pressure route of the model; "
+                          "the maps say which one governed."),
+        new_code_cell("task = arms[0].task\nAREA_CM2 = 1.0   # contact area [cm^2], invented\n"
+                      "maps = {(a.name, body): ir.contact_speed_map(a, task, body, contact_area_cm2=AREA_CM2)\n"
                       "        for a in arms for body in (\"hand\", \"lower_arm\")}"),
         new_code_cell("# NBVAL_CHECK_OUTPUT\nfor (name, body), ds in maps.items():\n"
                       "    ok = ds[\"status\"].values == 0\n"
                       "    v = ds[\"permissible_speed\"].values[ok]\n"
-                      "    print(f\"{name:10s} {body:10s} lowest {v.min():.4f} m/s, median {float(np.median(v)):.4f} m/s\")\n"
+                      "    print(f\"{name:10s} {body:10s} lowest {v.min():.4f} m/s, median {float(np.median(v)):.4f} m/s, \"\n"
+                      "          f\"{ds.attrs['governing_route']} route ({ds.attrs['body_area_name']})\")\n"
                       "print(next(iter(maps.values())).attrs[\"caution\"])"),
         new_code_cell("plots.plot_contact_speed_map(maps[(\"kestrel_a\", \"hand\")]);"),
         new_markdown_cell("## The cycle's tool speeds against the hand limit"),
         new_code_cell("# NBVAL_CHECK_OUTPUT\nfor a, r in zip(arms, results):\n"
-                      "    check = ir.check_speeds(a, None, r.tool_velocity[::10], q=r.q[::10], body_region=\"hand\")\n"
+                      "    check = ir.check_speeds(a, None, r.tool_velocity[::10], q=r.q[::10], body_region=\"hand\",\n"
+                      "                           contact_area_cm2=AREA_CM2)\n"
                       "    w = check.worst\n"
                       "    print(f\"{a.name}: {int(check.ok.sum())} of {check.ok.size} samples within the limit; \"\n"
                       "          f\"worst margin {check.margin_mps[w]:.4f} m/s at {check.speeds_mps[w]:.4f} m/s\")"),
@@ -196,8 +203,8 @@ def sizing_and_contact():
                           "`ContactBoard.follow(board)` it tracks a ComparisonBoard); the contact "
                           "panel maps a chosen body region. All show their cautions."),
         new_code_cell("cycle_panel = CyclePanel(arms)\ncycle_panel"),
-        new_code_cell("contact_board = ContactBoard(arms, task, body_region=\"hand\")\ncontact_board"),
-        new_code_cell("contact_panel = ContactMapPanel(arms[0], task, body_region=\"hand\")\ncontact_panel"),
+        new_code_cell("contact_board = ContactBoard(arms, task, body_region=\"hand\", contact_area_cm2=AREA_CM2)\ncontact_board"),
+        new_code_cell("contact_panel = ContactMapPanel(arms[0], task, body_region=\"hand\", contact_area_cm2=AREA_CM2)\ncontact_panel"),
         new_code_cell("# NBVAL_IGNORE_OUTPUT\nsnapshot(cycle_panel, title=\"cycle torques\")\n"
                       "snapshot(contact_board, title=\"contact speeds of the alternatives, hand\")\n"
                       "snapshot(contact_panel, title=\"contact speeds, hand\")"),

@@ -23,8 +23,9 @@ def plot_contact_speed_map(ds, *, ax=None, metric="permissible_speed", title=Non
     Parameters
     ----------
     ds : xarray.Dataset
-        From :func:`inertia_review.contact_speed_map` (carries the body region, its values,
-        their source and the caution text in its attributes).
+        From :func:`inertia_review.contact_speed_map` (carries the body region and area, their
+        values and sources, the contact area, the governing route and the caution text in its
+        attributes; the title names the route, the area and the contact area).
     metric : {'permissible_speed', 'effective_mass'}
     ax : Axes, optional
 
@@ -33,6 +34,10 @@ def plot_contact_speed_map(ds, *, ax=None, metric="permissible_speed", title=Non
     ContactMapArtists
     """
     region = ds.attrs.get("body_region_name", ds.attrs.get("body_region", ""))
+    route = ds.attrs.get("governing_route")
+    if route is not None:       # which route governed, the body area and the contact area
+        region = (f"{region}\n{route} route, {ds.attrs.get('body_area_name', '')}, "
+                  f"A = {ds.attrs.get('contact_area_cm2', float('nan')):g} cm²")
     if title is None:
         title = (f"{ds.attrs.get('design', '')}: permissible contact speed, {region}"
                  if metric == "permissible_speed" else

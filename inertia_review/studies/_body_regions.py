@@ -3,6 +3,11 @@
 The shipped table is ``inertia_review/data/body_regions.toml`` (ISO/TS 15066:2016 Annex A,
 Tables A.2 and A.3, from secondary transcriptions: references.md item 6, [S]); every region
 keeps its source and confirmation status.
+
+A body REGION (e.g. "Hands and fingers") carries the force values and the effective mass and
+spring constant; its body AREAS (palm, forefinger pad, ...) carry the permissible pressures
+(N/cm^2). The governing area of a region is the area with the lowest transient pressure,
+unless the user names one.
 """
 
 import functools
@@ -23,7 +28,7 @@ from ..model._validate import (
 )
 from ._cautions import CONTACT_CAUTION
 
-__all__ = ["BodyRegion", "BodyRegions", "load_body_regions", "NOT_PERMITTED"]
+__all__ = ["BodyArea", "BodyRegion", "BodyRegions", "load_body_regions", "NOT_PERMITTED"]
 
 #: How a body-region file marks a region where transient contact is not permitted.
 NOT_PERMITTED = "not permitted"
@@ -33,8 +38,31 @@ EFFECTIVE_MASS_MODELS = ("apparent", "simplified")
 
 _FILE_KEYS = ("format", "title", "note", "source", "regions")
 _REGION_KEYS = ("name", "effective_mass_kg", "spring_constant_Npmm", "quasi_static_force_N",
-                "transient_force_N", "source", "status")
+                "transient_force_N", "source", "status", "areas")
+_AREA_KEYS = ("name", "quasi_static_pressure_Npcm2", "transient_pressure_Npcm2", "source",
+              "status")
 
+
+class BodyArea(NamedTuple):
+    """Permissible pressures of one body area (ISO/TS 15066:2016 Annex A, Table A.2 [S]).
+
+    ``transient_pressure_Npcm2`` is None where transient contact is not permitted.
+    Pressures in N/cm^2.
+    """
+
+    key: str
+    name: str
+    quasi_static_pressure_Npcm2: float          # p_QS [N/cm^2]
+    transient_pressure_Npcm2: float | None      # p_T [N/cm^2]; None: not permitted
+    source: str
+    status: str
+
+    def describe(self):
+        """One line with the values and their source."""
+        pt = (NOT_PERMITTED if self.transient_pressure_Npcm2 is None
+              else f"{self.transient_pressure_Npcm2:g} N/cm^2")
+        return (f"{self.name} ('{self.key}'): p_QS = {self.quasi_static_pressure_Npcm2:g} N/cm^2, "
+                f"p_T = {pt}; source: {self.source}; status: {self.status}")
 
 
 class BodyRegion(NamedTuple):
@@ -53,6 +81,7 @@ class BodyRegion(NamedTuple):
     transient_force_N: float | None   # F_T, None: transient contact not permitted
     source: str
     status: str
+    areas: tuple = ()                 # BodyArea, in file order
 
     @property
     def transient_permitted(self):
@@ -63,6 +92,32 @@ class BodyRegion(NamedTuple):
     def spring_constant_Npm(self):
         """Effective spring constant k = K * 1000 [N/m]."""
         return self.spring_constant_Npmm * 1000.0
+
+    def area(self, body_area=None):
+        """The governing body area: the one named ``body_area`` (a key), else the area with
+        the lowest transient pressure (the conservative choice when any area can be hit)."""
+        if not self.areas:
+            raise ValueError(f"body region '{self.key}' lists no body areas with pressures: the "
+                             "pressure route cannot be evaluated; add [regions."
+                             f"{self.key}.areas.NAME] tables to the body-region file")
+        if body_area is not None:
+            for a in self.areas:
+                if a.key == body_area:
+                    return a
+            raise ValueError(f"'{body_area}' is not a body area of region '{self.key}'; "
+                             f"available areas: {', '.join(a.key for a in self.areas)}")
+        permitted = [a for a in self.areas if a.transient_pressure_Npcm2 is not None]
+        if not permitted:
+            return self.areas[0]
+        return min(permitted, key=lambda a: a.transient_pressure_Npcm2)
+
+    def crossover_area_cm2(self, body_area=None):
+        """Contact area A* = F_T / p_T [cm^2] below which the pressure route governs
+        (None where transient contact is not permitted)."""
+        a = self.area(body_area)
+        if not self.transient_permitted or a.transient_pressure_Npcm2 is None:
+            return None
+        return self.transient_force_N / a.transient_pressure_Npcm2
 
     def not_permitted_reason(self):
         """Why no permissible speed exists for this region ('' where one exists)."""
@@ -112,7 +167,9 @@ class BodyRegions(Mapping):
     def text(self):
         """The table as text, with the file note and the caution."""
         lines = [self.title, f"source: {self.source}", ""]
-        lines += [f"  {r.describe()}" for r in self.values()]
+        for r in self.values():
+            lines.append(f"  {r.describe()}")
+            lines += [f"      area {a.describe()}" for a in r.areas]
         lines += ["", self.note, "", CONTACT_CAUTION]
         return "\n".join(lines)
 
@@ -181,15 +238,26 @@ def _parse_regions(raw, where):
         values = {
             "name": _nonempty_string(problems, entry, "name", path),
             "effective_mass_kg": get_number(problems, entry, "effective_mass_kg", path,
-                                            low=0.0, low_open=True),
+                                            low=_MIN_VALUE, high=_MAX_MASS_KG),
             "spring_constant_Npmm": get_number(problems, entry, "spring_constant_Npmm", path,
-                                               low=0.0, low_open=True),
+                                               low=_MIN_VALUE, high=_MAX_K_NPMM),
             "quasi_static_force_N": get_number(problems, entry, "quasi_static_force_N", path,
-                                               low=0.0, low_open=True),
+                                               low=_MIN_VALUE, high=_MAX_FORCE_N),
             "transient_force_N": _transient_force(problems, entry, path),
             "source": _nonempty_string(problems, entry, "source", path),
             "status": _nonempty_string(problems, entry, "status", path),
+            "areas": _areas(problems, entry, path),
         }
+        if values["transient_force_N"] is not None:
+            forbidden = [a.key for a in values["areas"] if a.transient_pressure_Npcm2 is None]
+            if forbidden:
+                problems.add(join(path, "areas"), f"areas {forbidden} say transient contact is "
+                             f"not permitted but the region gives a transient force")
+        elif str(entry.get("transient_force_N", "")).strip().lower() == NOT_PERMITTED:
+            allowed = [a.key for a in values["areas"] if a.transient_pressure_Npcm2 is not None]
+            if allowed:
+                problems.add(join(path, "areas"), f"areas {allowed} give a transient pressure "
+                             f"but transient contact with the region is not permitted")
         regions[key] = BodyRegion(key=str(key), **values)
     if problems:
         raise DesignError(name, problems.items)
@@ -207,19 +275,61 @@ def _nonempty_string(problems, table, key, path):
 _MISSING_FT = object()
 
 
-def _transient_force(problems, entry, path):
-    """F_T as float, None for "not permitted"; a problem otherwise."""
-    field_path = join(path, "transient_force_N")
-    value = entry.get("transient_force_N", _MISSING_FT)
+def _transient_value(problems, entry, key, path, unit, high):
+    """A transient limit as float, None for "not permitted"; a problem otherwise."""
+    field_path = join(path, key)
+    value = entry.get(key, _MISSING_FT)
     if value is _MISSING_FT:
-        problems.add(field_path, f'required key is missing (a force in N, or "{NOT_PERMITTED}")')
+        problems.add(field_path, f'required key is missing (a value in {unit}, or "{NOT_PERMITTED}")')
         return None
     if isinstance(value, str):
         if value.strip().lower() == NOT_PERMITTED:
             return None
-        problems.add(field_path, f'must be a number > 0 [N] or "{NOT_PERMITTED}"; got {value!r}')
+        problems.add(field_path, f'must be a number > 0 [{unit}] or "{NOT_PERMITTED}"; got {value!r}')
         return None
-    return get_number(problems, entry, "transient_force_N", path, low=0.0, low_open=True)
+    return get_number(problems, entry, key, path, low=_MIN_VALUE, high=high)
+
+
+def _transient_force(problems, entry, path):
+    """F_T as float, None for "not permitted"; a problem otherwise."""
+    return _transient_value(problems, entry, "transient_force_N", path, "N", _MAX_FORCE_N)
+
+
+#: Bounds of physical sense for the table's values (generous; the shipped values lie far inside).
+_MIN_VALUE = 1.0e-3             # smallest mass [kg], K [N/mm], force [N] or pressure [N/cm^2]
+_MAX_MASS_KG = 1000.0          # effective body mass m_H
+_MAX_K_NPMM = 1.0e5            # effective spring constant K [N/mm]
+_MAX_FORCE_N = 1.0e5           # forces [N]
+_MAX_PRESSURE_NPCM2 = 1.0e5    # pressures [N/cm^2]
+
+
+def _areas(problems, entry, path):
+    """The body areas of a region (at least one), as a tuple of BodyArea."""
+    table = get_table(problems, entry, "areas", path, required=True)
+    where = join(path, "areas")
+    if table is None:
+        return ()
+    if not table and "areas" in entry:
+        problems.add(where, "must list at least one body area")
+    out = []
+    for key, area in table.items():
+        apath = join(where, key)
+        if not isinstance(area, dict):
+            problems.add(apath, "must be a table")
+            continue
+        check_keys(problems, area, _AREA_KEYS, apath)
+        qs = get_number(problems, area, "quasi_static_pressure_Npcm2", apath, low=_MIN_VALUE,
+                        high=_MAX_PRESSURE_NPCM2)
+        pt = _transient_value(problems, area, "transient_pressure_Npcm2", apath, "N/cm^2",
+                              _MAX_PRESSURE_NPCM2)
+        if qs is not None and pt is not None and pt < qs:
+            problems.add(join(apath, "transient_pressure_Npcm2"),
+                         f"must be >= the quasi-static pressure {qs:g} N/cm^2; got {pt:g}")
+        out.append(BodyArea(key=str(key), name=_nonempty_string(problems, area, "name", apath),
+                            quasi_static_pressure_Npcm2=qs, transient_pressure_Npcm2=pt,
+                            source=_nonempty_string(problems, area, "source", apath),
+                            status=_nonempty_string(problems, area, "status", apath)))
+    return tuple(out)
 
 
 def _region(body_region, regions):

@@ -17,8 +17,13 @@ TORQUE_CAUTION = (
 CONTACT_CAUTION = (
     "CAUTION: permissible contact speeds are design-stage estimates from the transient-contact "
     "model of ISO/TS 15066:2016 Annex A (informative), using the arm's rigid-body apparent mass. "
-    "They are not a validation: contact forces and pressures must be measured on the finished "
-    "application (ISO/PAS 5672), after a risk assessment per ISO 12100 and ISO 10218-2. No "
-    "transient contact with the skull, forehead or face is permitted. Local regulations and "
-    "qualified, licensed practice decide."
+    "Covered: transient (free, unconstrained) contact of a person with the TOOL POINT only, the "
+    "lower of the force and pressure routes for the stated body area and contact area. NOT "
+    "covered: contact with other links, joints or the payload's edges away from the tool point; "
+    "quasi-static contact (clamping, pinching, trapping), which has lower limits and needs a way "
+    "to release the person; sharp edges and points (the model assumes blunt contact); stopping "
+    "distances and control behaviour. They are not a validation: contact forces and pressures "
+    "must be measured on the finished application (ISO/PAS 5672), after a risk assessment per "
+    "ISO 12100 and ISO 10218-2. No transient contact with the skull, forehead or face is "
+    "permitted. Local regulations and qualified, licensed practice decide."
 )

@@ -11,19 +11,20 @@ import numpy as np
 
 from ._body_regions import (
     NOT_PERMITTED,
+    BodyArea,
     BodyRegion,
     BodyRegions,
     _region,
     load_body_regions,
 )
 from ._cautions import CONTACT_CAUTION
-from ._ik_status import SOLVED
 from ._contact_model import (
     _check_model,
+    _contact_area,
     _simplified_mass,
     contact_speed,
-    transient_energy_limit,
 )
+from ._ik_status import SOLVED
 
 __all__ = ["contact_speed_map", "SpeedCheck", "check_speeds"]
 
@@ -38,6 +39,18 @@ def _project_direction(arm, direction, what="direction"):
     if norm < 1e-9:
         raise ValueError(f"`{what}` {u.tolist()} has no part in the task span {axes.tolist()}")
     return (w / norm) @ axes
+
+
+def _area_attrs(area, prefix="body_area"):
+    pt = area.transient_pressure_Npcm2
+    return {
+        prefix: area.key,
+        f"{prefix}_name": area.name,
+        f"{prefix}_quasi_static_pressure_Npcm2": area.quasi_static_pressure_Npcm2,
+        f"{prefix}_transient_pressure_Npcm2": NOT_PERMITTED if pt is None else pt,
+        f"{prefix}_source": area.source,
+        f"{prefix}_status": area.status,
+    }
 
 
 def _region_attrs(region, note, prefix="body_region"):
@@ -55,15 +68,22 @@ def _region_attrs(region, note, prefix="body_region"):
     }
 
 
-def _region_from_attrs(attrs, prefix="body_region"):
+def _region_from_attrs(attrs, prefix="body_region", area_prefix="body_area"):
     ft = attrs[f"{prefix}_transient_force_N"]
+    pt = attrs[f"{area_prefix}_transient_pressure_Npcm2"]
+    area = BodyArea(
+        key=str(attrs[area_prefix]), name=str(attrs[f"{area_prefix}_name"]),
+        quasi_static_pressure_Npcm2=float(attrs[f"{area_prefix}_quasi_static_pressure_Npcm2"]),
+        transient_pressure_Npcm2=None if isinstance(pt, str) else float(pt),
+        source=str(attrs[f"{area_prefix}_source"]), status=str(attrs[f"{area_prefix}_status"]))
     return BodyRegion(
         key=str(attrs[prefix]), name=str(attrs[f"{prefix}_name"]),
         effective_mass_kg=float(attrs[f"{prefix}_effective_mass_kg"]),
         spring_constant_Npmm=float(attrs[f"{prefix}_spring_constant_Npmm"]),
         quasi_static_force_N=float(attrs[f"{prefix}_quasi_static_force_N"]),
         transient_force_N=None if isinstance(ft, str) else float(ft),
-        source=str(attrs[f"{prefix}_source"]), status=str(attrs[f"{prefix}_status"]))
+        source=str(attrs[f"{prefix}_source"]), status=str(attrs[f"{prefix}_status"]),
+        areas=(area,))
 
 
 def _table_note(regions):
@@ -80,14 +100,17 @@ _SPEED_ATTRS = {
                        "with effective_mass_model 'simplified'; inf where unbounded"},
     "permissible_speed": {
         "units": "m s^-1", "long_name": "permissible transient-contact speed",
-        "description": "v_max = F_T / sqrt(mu k), mu = (1/m_H + 1/m_R)^-1, k = K * 1000 "
-                       "(ISO/TS 15066:2016 Annex A, informative); 0 where transient contact "
-                       "is not permitted; a design-stage estimate, not a validation"},
+        "description": "v_max = min(F_T, p_T A) / sqrt(mu k), the lower of the force and "
+                       "pressure routes (governing_route in attrs), mu = (1/m_H + 1/m_R)^-1, "
+                       "k = K * 1000 (ISO/TS 15066:2016 Annex A, informative); 0 where "
+                       "transient contact is not permitted; tool point only; a design-stage "
+                       "estimate, not a validation"},
 }
 
 
-def contact_speed_map(arm, region_or_task=None, body_region="hand", *, direction=None,
-                      regions=None, effective_mass="apparent", payload_kg=None, **map_options):
+def contact_speed_map(arm, region_or_task=None, body_region="hand", *, contact_area_cm2=None,
+                      body_area=None, direction=None, regions=None, effective_mass="apparent",
+                      payload_kg=None, **map_options):
     """Permissible transient-contact speed over a task region, as an ``xarray.Dataset``.
 
     Parameters
@@ -97,6 +120,11 @@ def contact_speed_map(arm, region_or_task=None, body_region="hand", *, direction
         As for :func:`inertia_review.metric_map` (default: the design's own task).
     body_region : str or BodyRegion
         Body region that may be hit.
+    contact_area_cm2 : float
+        Required: contact area [cm^2], the smaller of the robot's and the body's contact
+        surface (see :func:`inertia_review.contact_speed`).
+    body_area : str, optional
+        Body area of the region; default the one with the lowest transient pressure.
     direction : (3,) world vector, optional
         Direction of motion at contact (projected into the task span and normalised);
         default: the task's approach direction.
@@ -112,8 +140,10 @@ def contact_speed_map(arm, region_or_task=None, body_region="hand", *, direction
     xarray.Dataset
         The map's grid coordinates, ``q``, ``status`` and ``near_singular``, and
         ``effective_mass`` [kg] and ``permissible_speed`` [m/s] (NaN where a point was not
-        solved). ``attrs`` hold the body region, its values and their source, the direction,
-        the design (``design_json``, used by :func:`check_speeds`) and ``caution``.
+        solved). ``attrs`` hold the body region and body area, their values and sources, the
+        contact area, the governing route ('force' or 'pressure'; the same at every point,
+        as both routes share sqrt(mu k)), the direction, the design (``design_json``, used by
+        :func:`check_speeds`) and ``caution``.
     """
     import xarray as xr
 
@@ -133,21 +163,27 @@ def contact_speed_map(arm, region_or_task=None, body_region="hand", *, direction
                              "task with an approach direction")
     u = _project_direction(arm, direction)
     region = _region(body_region, regions)
+    area_cm2 = _contact_area(contact_area_cm2)
+    area = region.area(body_area)
     note = _table_note(regions)
     if payload_kg is None and task is not None:
         payload_kg = task.payload_kg
     arm_used = arm if payload_kg is None else arm.with_values({"tool.payload_kg": float(payload_kg)})
 
     base = metric_map(arm_used, region_or_task, approach=u, **map_options)
-    solved = np.isin(base["status"].values, SOLVED)
+    solved = np.isin(base["status"].values, SOLVED)     # incl. branch-seam points (valid q)
     m_along = base["mass_along_approach"].values
     if effective_mass == "simplified":
         m_r = np.where(solved, _simplified_mass(arm_used), np.nan)
     else:
         m_r = m_along
     speed = np.full(m_r.shape, np.nan)
+    # route, energy limit and crossover do not depend on m_R (both routes share sqrt(mu k)):
+    # evaluate them once at any finite mass
+    at = contact_speed(region, 12.0, contact_area_cm2=area_cm2, body_area=area.key)
     if np.any(solved):
-        speed[solved] = np.asarray(contact_speed(region, m_r[solved]).speed_mps)
+        speed[solved] = np.asarray(contact_speed(region, m_r[solved], contact_area_cm2=area_cm2,
+                                                 body_area=area.key).speed_mps)
     dims = base["status"].dims
     ds = xr.Dataset(
         {"effective_mass": (dims, m_r, dict(_SPEED_ATTRS["effective_mass"])),
@@ -159,12 +195,16 @@ def contact_speed_map(arm, region_or_task=None, body_region="hand", *, direction
             "region_axes")
     ds.attrs.update({k: base.attrs[k] for k in keep if k in base.attrs})
     ds.attrs.update(_region_attrs(region, note))
+    ds.attrs.update(_area_attrs(area))
     ds.attrs.update({
+        "contact_area_cm2": area_cm2,
+        "governing_route": at.governing_route or "not permitted",
+        "crossover_area_cm2": (np.nan if at.crossover_area_cm2 is None
+                               else float(at.crossover_area_cm2)),
+        "route_description": at.route_text(),
         "transient_contact": ("permitted" if region.transient_permitted
                               else f"not permitted: {region.not_permitted_reason()}"),
-        "energy_limit_J": (float(transient_energy_limit(region.transient_force_N,
-                                                        region.spring_constant_Npmm))
-                           if region.transient_permitted else 0.0),
+        "energy_limit_J": at.energy_limit_J,
         "direction": [float(x) for x in u],
         "effective_mass_model": effective_mass,
         "design_json": json.dumps(arm_used.to_dict()),
@@ -202,6 +242,10 @@ class SpeedCheck:
     mass_model: str
     reason: str = ""
     caution: str = field(default=CONTACT_CAUTION)
+    body_area: BodyArea | None = None
+    contact_area_cm2: float = float("nan")
+    governing_route: str = ""           # "force" or "pressure" ("" if not permitted)
+    route_description: str = ""
 
     @property
     def all_ok(self):
@@ -213,8 +257,11 @@ class SpeedCheck:
 
     def text(self):
         n = self.ok.size
-        lines = ["Transient-contact speed check (ISO/TS 15066:2016 Annex A model, force route)",
+        lines = ["Transient-contact speed check (ISO/TS 15066:2016 Annex A model, lower of the "
+                 "force and pressure routes)",
                  f"  body region: {self.body_region.describe()}",
+                 f"  body area: {self.body_area.describe()}",
+                 f"  contact area A: {self.contact_area_cm2:g} cm^2; {self.route_description}",
                  f"  effective mass model: {self.mass_model}",
                  f"  samples: {n}; within the permissible speed: {int(np.sum(self.ok))}; "
                  f"not solved: {self.unsolved}"]
@@ -237,15 +284,16 @@ class SpeedCheck:
 
 
 def check_speeds(speed_map_or_arm, points, speeds, *, q=None, directions=None,
-                 body_region=None, regions=None, effective_mass=None, posture=None,
-                 **solver_options):
+                 body_region=None, contact_area_cm2=None, body_area=None, regions=None,
+                 effective_mass=None, posture=None, **solver_options):
     """Check tool speeds along a path against the permissible transient-contact speed.
 
     Parameters
     ----------
     speed_map_or_arm : Arm or xarray.Dataset
         An arm, or a map from :func:`contact_speed_map`, which supplies the design, the body
-        region, the effective-mass model and the posture (keywords override them).
+        region and area, the contact area, the effective-mass model and the posture
+        (keywords override them).
     points : array_like, shape (..., 3) or None
         Tool points [m] (None with ``q``: taken from ``arm.tool_position(q)``).
     speeds : array_like, shape (...,) or (..., 3)
@@ -260,8 +308,8 @@ def check_speeds(speed_map_or_arm, points, speeds, *, q=None, directions=None,
         differences of a (N, 3) point sequence. Directions are projected into the task span
         and normalised; where none is defined (zero length), the largest principal apparent
         mass is used (the worst case over directions).
-    body_region, regions, effective_mass
-        As for :func:`permissible_speed`.
+    body_region, contact_area_cm2, body_area, regions, effective_mass
+        As for :func:`permissible_speed` (``contact_area_cm2`` is required with an arm).
     posture, **solver_options
         Passed to :func:`inertia_review.solve_positions`.
 
@@ -280,6 +328,8 @@ def check_speeds(speed_map_or_arm, points, speeds, *, q=None, directions=None,
         if body_region is None:
             raise ValueError("give `body_region` (e.g. 'hand') when checking against an arm")
         region = _region(body_region, regions)
+        area_cm2 = _contact_area(contact_area_cm2)
+        area_key = region.area(body_area).key
         model = "apparent" if effective_mass is None else effective_mass
         posture = "elbow_up" if posture is None else posture
     elif hasattr(speed_map_or_arm, "attrs") and "design_json" in speed_map_or_arm.attrs:
@@ -287,6 +337,10 @@ def check_speeds(speed_map_or_arm, points, speeds, *, q=None, directions=None,
         arm = Arm.from_dict(json.loads(attrs["design_json"]))
         region = (_region_from_attrs(attrs) if body_region is None
                   else _region(body_region, regions))
+        area_cm2 = _contact_area(attrs["contact_area_cm2"] if contact_area_cm2 is None
+                                 else contact_area_cm2)
+        area_key = region.area(body_area if body_region is not None or body_area is not None
+                               else attrs["body_area"]).key
         model = attrs["effective_mass_model"] if effective_mass is None else effective_mass
         posture = attrs.get("posture", "elbow_up") if posture is None else posture
     else:
@@ -367,8 +421,10 @@ def check_speeds(speed_map_or_arm, points, speeds, *, q=None, directions=None,
         if np.any(b):
             m_r[b] = principal_masses(arm, q[b]).masses[..., -1]
     perm = np.full(batch, np.nan)
+    at = contact_speed(region, 12.0, contact_area_cm2=area_cm2, body_area=area_key)
     if np.any(solved):
-        perm[solved] = contact_speed(region, m_r[solved]).speed_mps
+        perm[solved] = contact_speed(region, m_r[solved], contact_area_cm2=area_cm2,
+                                     body_area=area_key).speed_mps
     margin = perm - speed
     with np.errstate(divide="ignore", invalid="ignore"):
         ratio = np.where(perm > 0, speed / np.where(perm > 0, perm, 1.0),
@@ -380,4 +436,6 @@ def check_speeds(speed_map_or_arm, points, speeds, *, q=None, directions=None,
     else:
         worst = -1
     return SpeedCheck(pts, speed, u, ~known, q, status, m_r, perm, margin, ratio, ok, worst,
-                      region, model, region.not_permitted_reason())
+                      region, model, region.not_permitted_reason(), body_area=at.body_area,
+                      contact_area_cm2=area_cm2, governing_route=at.governing_route,
+                      route_description=at.route_text())

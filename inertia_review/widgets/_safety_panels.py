@@ -26,19 +26,28 @@ def _contact_readout(ds):
     rows = (f"<tr><td>body region</td><td><b>{html.escape(str(ds.attrs.get('body_region_name', '')))}"
             f"</b></td></tr><tr><td>lowest permissible speed [m/s]</td><td class='ir-score' "
             f"data-score='speed_min_mps'><b>{scores['speed_min_mps']:.3f}</b></td></tr>"
-            f"<tr><td>median [m/s]</td><td><b>{scores['speed_median_mps']:.3f}</b></td></tr>")
+            f"<tr><td>median [m/s]</td><td><b>{scores['speed_median_mps']:.3f}</b></td></tr>"
+            f"<tr><td>governing route</td><td class='ir-route'><b>"
+            f"{html.escape(str(ds.attrs.get('governing_route', '')))}</b> (body area "
+            f"{html.escape(str(ds.attrs.get('body_area_name', '')))}, contact area "
+            f"{ds.attrs.get('contact_area_cm2', float('nan')):g} cm²)</td></tr>")
+    scores["governing_route"] = ds.attrs.get("governing_route", "")
     return scores, f"<table class='ir-scores'>{rows}</table>{_CAUTION_HTML}"
 
 
 class ContactMapPanel(MapPanel):
     """Permissible transient-contact speed over the task region for a chosen body region.
 
-    The body region is chosen from the shipped (or a given) body-region table; the caution
-    is shown under the map at all times.
+    The body region is chosen from the shipped (or a given) body-region table; the contact
+    area [cm^2] is required (the speed is the lower of the force and pressure routes, and the
+    readout names the governing one); the caution is shown under the map at all times.
     """
 
-    def __init__(self, arm, region, *, body_region="hand", regions=None, direction=None,
-                 **kwargs):
+    def __init__(self, arm, region, *, body_region="hand", contact_area_cm2=None, regions=None,
+                 direction=None, **kwargs):
+        from ..studies._contact_model import _contact_area
+
+        self._area = _contact_area(contact_area_cm2)
         self._regions = regions if regions is not None else load_body_regions()
         self._body = body_region
         self._direction = direction
@@ -54,8 +63,8 @@ class ContactMapPanel(MapPanel):
 
     def _compute_contact(self, arm, region, **options):
         options.pop("initial_q", None)
-        return contact_speed_map(arm, region, self._body, direction=self._direction,
-                                 regions=self._regions, **options)
+        return contact_speed_map(arm, region, self._body, contact_area_cm2=self._area,
+                                 direction=self._direction, regions=self._regions, **options)
 
     def _on_body_change(self, change):
         self._body = change["new"]
@@ -154,16 +163,20 @@ class CyclePanel(widgets.VBox):
 class ContactBoard(widgets.VBox):
     """Permissible contact speed of 2 to 4 alternatives side by side, on one colour scale.
 
-    Traits: ``arms`` (list of Arm), ``body_region``. Use :meth:`follow` to keep ``arms`` in
-    step with a :class:`ComparisonBoard`. The caution is always shown.
+    Traits: ``arms`` (list of Arm), ``body_region``. ``contact_area_cm2`` is required (see
+    :class:`ContactMapPanel`). Use :meth:`follow` to keep ``arms`` in step with a
+    :class:`ComparisonBoard`. The caution is always shown.
     """
 
     arms = traitlets.List(help="the alternatives (1 to 4 arms)")
     body_region = traitlets.Unicode("hand", help="key of the body-region table")
     error = traitlets.Unicode("")
 
-    def __init__(self, arms, region, *, body_region="hand", regions=None, direction=None,
-                 **kwargs):
+    def __init__(self, arms, region, *, body_region="hand", contact_area_cm2=None, regions=None,
+                 direction=None, **kwargs):
+        from ..studies._contact_model import _contact_area
+
+        self._area = _contact_area(contact_area_cm2)
         self._region = region
         self._regions = regions if regions is not None else load_body_regions()
         self._direction = direction
@@ -191,7 +204,8 @@ class ContactBoard(widgets.VBox):
 
         try:
             maps = [contact_speed_map(arm, self._region, self.body_region,
-                                      direction=self._direction, regions=self._regions)
+                                      contact_area_cm2=self._area, direction=self._direction,
+                                      regions=self._regions)
                     for arm in self.arms]
         except (ValueError, KeyError) as exc:
             self.error = str(exc)
@@ -209,5 +223,9 @@ class ContactBoard(widgets.VBox):
                        f"</td><td style='text-align:right'>"
                        f"{_contact_readout(ds)[0]['speed_median_mps']:.3f}</td></tr>"
                        for arm, ds in zip(self.arms, maps))
+        route = (f"<div class='ir-route'>governing route: <b>"
+                 f"{html.escape(str(maps[0].attrs.get('governing_route', '')))}</b> (body area "
+                 f"{html.escape(str(maps[0].attrs.get('body_area_name', '')))}, contact area "
+                 f"{self._area:g} cm²)</div>") if maps else ""
         self.table.value = ("<table class='ir-scores'><tr><th>design</th><th>lowest [m/s]</th>"
-                            f"<th>median [m/s]</th></tr>{rows}</table>{_CAUTION_HTML}")
+                            f"<th>median [m/s]</th></tr>{rows}</table>{route}{_CAUTION_HTML}")

@@ -9,13 +9,17 @@ __all__ = ["execute_notebook", "text_outputs", "rebaseline", "write_report"]
 
 
 def execute_notebook(path, *, timeout=600, kernel_name="python3"):
-    """Run every cell of a notebook (in its own folder) and return the executed notebook."""
+    """Run every cell of a notebook (in its own folder) and return the executed notebook.
+
+    No per-cell timing metadata is recorded (``record_timing=False``).
+    """
     import nbformat
     from nbclient import NotebookClient
 
     path = Path(path)
     nb = nbformat.read(path, as_version=4)
-    client = NotebookClient(nb, timeout=timeout, kernel_name=kernel_name,
+    # record_timing=False: no per-cell execution timestamps, so saved notebooks diff cleanly
+    client = NotebookClient(nb, timeout=timeout, kernel_name=kernel_name, record_timing=False,
                             resources={"metadata": {"path": str(path.parent.resolve())}})
     client.execute()
     return nb

@@ -10,7 +10,10 @@ What is checked, and against what:
 - ``--no-input`` hides every code source and keeps the outputs; without it the sources show;
 - ``--no-execute`` renders the saved outputs as they are (no kernel: an output that a run would
   change stays as saved);
-- the saved review notebooks render this way too (``--no-execute``, their saved figures).
+- the saved review notebooks render this way too (``--no-execute``, their saved figures);
+- in Debian's headless Chromium (through playwright), the quick review's report opened from
+  ``file://`` with every other request aborted makes no request, fails none, raises no script
+  error and decodes every image (marked ``browser``; skipped when /usr/bin/chromium is missing).
 
 The small notebooks are written here (invented numbers); the saved notebooks are the invented
 Kestrel Optics demo reviews.
@@ -132,3 +135,43 @@ def test_saved_review_notebooks_render_offline(name, tmp_path):
     assert _remote_loads(page) == []
     assert set(_pngs(nbformat.read(path, as_version=4))) <= _page_pngs(page)
     assert "import inertia_review" not in page
+
+
+@pytest.mark.browser
+def test_report_in_a_browser_with_the_network_blocked(tmp_path):
+    """Headless Chromium opens the saved quick review's report from file:// with every non-file
+    request aborted: no request is made or fails, no script error, every image is decoded."""
+    chromium = Path("/usr/bin/chromium")
+    if not chromium.exists():
+        pytest.skip(f"{chromium} is missing (apt-get install -y chromium)")
+    sync_api = pytest.importorskip("playwright.sync_api")
+    path = ROOT / "notebooks" / "01_quick_review.ipynb"
+    out = _notebooks.write_report(path, tmp_path / "review.html", execute=False, no_input=True)
+    n_png = len(_pngs(nbformat.read(path, as_version=4)))
+    assert n_png >= 1
+    blocked, failed, errors = [], [], []
+
+    def only_files(route):
+        if route.request.url.startswith(("file:", "data:")):
+            route.continue_()
+        else:
+            blocked.append(route.request.url)
+            route.abort()
+
+    with sync_api.sync_playwright() as pw:
+        browser = pw.chromium.launch(executable_path=str(chromium), headless=True,
+                                     args=["--no-sandbox", "--disable-gpu", "--headless",
+                                           "--disable-background-networking", "--no-first-run"])
+        try:
+            page = browser.new_page()
+            page.route("**/*", only_files)
+            page.on("requestfailed", lambda r: failed.append(r.url))
+            page.on("pageerror", lambda e: errors.append(str(e)))
+            page.goto(out.as_uri(), wait_until="load")
+            sizes = page.eval_on_selector_all(
+                "img", "els => els.map(e => [e.complete, e.naturalWidth, e.naturalHeight])")
+        finally:
+            browser.close()
+    assert blocked == [] and failed == [] and errors == []
+    assert len(sizes) >= n_png
+    assert all(done and w > 0 and h > 0 for done, w, h in sizes), sizes

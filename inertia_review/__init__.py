@@ -22,6 +22,7 @@ from .core._metrics import PrincipalMasses, TorqueHeadroom
 from .model._arm import Arm
 from .model._builders import planar_chain, yaw_pitch_pitch_arm
 from .model._cycle_schema import MOVE_KINDS, Cycle, Move, cycle_from_dict, design_cycles
+from .model._demo import demo_design, demo_design_path, demo_designs
 from .model._design import STANDARD_GRAVITY
 from .model._design_io import load_design, save_design
 from .model._errors import DesignError
@@ -68,6 +69,8 @@ __version__ = "0.1.0"
 __all__ = [
     # design model and files
     "Arm", "load_design", "save_design", "DesignError",
+    # the invented demo designs shipped with the package
+    "demo_designs", "demo_design", "demo_design_path",
     # builders and link sizing
     "planar_chain", "yaw_pitch_pitch_arm", "tube_properties", "TubeProperties",
     "MATERIALS", "MATERIAL_SOURCES",

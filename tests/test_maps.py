@@ -12,7 +12,10 @@ What is checked, and against what:
   (references.md item 4 [D], Woodbury identity), so every principal mass grows by exactly
   m_L, and the mass along the approach u becomes 1 / (u^T (Lambda + m_L I)^-1 u);
 - grid coordinates x_m, y_m, z_m = centre + u * axis0 + v * axis1, computed here by hand;
-- the netCDF round trip with xarray's own ``assert_identical``.
+- the netCDF round trip with xarray's own ``assert_identical``, also for attributes netCDF
+  cannot hold (booleans, None, tables); the file is valid netCDF-4 as judged by the netCDF C
+  library itself (Unidata netCDF-C through the ``netCDF4`` package, an independent reader),
+  with ``Conventions = "CF-1.8"``.
 """
 
 import os
@@ -274,7 +277,7 @@ def test_failed_save_leaves_no_temp_file_and_keeps_old_file(sorter_map, tmp_path
     ir.save_results(sorter_map, target)
     before = target.read_bytes()
     broken = sorter_map.copy()
-    broken.attrs["not_storable"] = {"a": 1}             # netCDF attributes cannot be tables
+    broken["not_storable"] = ("x", np.array([{"a": 1}], dtype=object))   # no netCDF type
     with pytest.raises((TypeError, ValueError)):
         ir.save_results(broken, target)
     assert sorted(os.listdir(tmp_path)) == ["map.nc"]   # no temporary file left behind
@@ -284,7 +287,7 @@ def test_failed_save_leaves_no_temp_file_and_keeps_old_file(sorter_map, tmp_path
 
 def test_failed_first_save_creates_nothing(sorter_map, tmp_path):
     broken = sorter_map.copy()
-    broken.attrs["not_storable"] = {"a": 1}
+    broken["not_storable"] = ("x", np.array([{"a": 1}], dtype=object))
     with pytest.raises((TypeError, ValueError)):
         ir.save_results(broken, tmp_path / "new.nc")
     assert os.listdir(tmp_path) == []
@@ -373,3 +376,39 @@ def test_payload_identity_spatial():
     np.testing.assert_allclose(loaded["q"].values, bare["q"].values, atol=1e-9)
     np.testing.assert_allclose(loaded["principal_mass"].values - bare["principal_mass"].values,
                                0.8, rtol=1e-9, atol=1e-9)
+
+
+def test_netcdf_file_is_valid_netcdf4_with_conventions(sorter_map, tmp_path):
+    netCDF4 = pytest.importorskip("netCDF4")   # Unidata's netCDF-C library (test extra)
+    path = ir.save_results(sorter_map, tmp_path / "sorter.nc")
+    with netCDF4.Dataset(path) as nc:          # refuses HDF5 files that are not netCDF-4
+        assert nc.file_format == "NETCDF4"
+        assert nc.getncattr("Conventions") == "CF-1.8"
+        assert nc.getncattr("design") == sorter_map.attrs["design"]
+        np.testing.assert_array_equal(nc.variables["isotropy"][:].filled(np.nan),
+                                      sorter_map["isotropy"].values)
+        assert nc.variables["isotropy"].getncattr("units") == sorter_map["isotropy"].attrs["units"]
+    assert "Conventions" not in sorter_map.attrs          # the Dataset itself is unchanged
+
+
+def test_netcdf_round_trip_of_attributes_netcdf_cannot_hold(sorter_map, tmp_path):
+    ds = sorter_map.copy()
+    ds.attrs.update(reviewed=True, reviewer=None, notes={"by": "kestrel team", "ok": [1, 2]},
+                    mixed=["a", 1.5], empty=[])
+    ds["q"].attrs["checked"] = False
+    path = ir.save_results(ds, tmp_path / "attrs.nc")
+    back = ir.load_results(path)
+    xr.testing.assert_identical(back, ds)
+    assert back.attrs["reviewed"] is True and back.attrs["reviewer"] is None
+    assert back.attrs["notes"] == {"by": "kestrel team", "ok": [1, 2]}
+    assert back.attrs["mixed"] == ["a", 1.5] and back.attrs["empty"] == []
+    assert back["q"].attrs["checked"] is False
+    assert "reviewed" not in sorter_map.attrs             # the caller's Dataset is unchanged
+
+
+def test_netcdf_refuses_an_attribute_it_cannot_encode(sorter_map, tmp_path):
+    ds = sorter_map.copy()
+    ds.attrs["handle"] = object()
+    with pytest.raises(TypeError, match="attribute 'handle'"):
+        ir.save_results(ds, tmp_path / "bad.nc")
+    assert os.listdir(tmp_path) == []

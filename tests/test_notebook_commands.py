@@ -161,6 +161,8 @@ def test_rebaseline_reports_changed_checked_output(tmp_path):
     assert _cell_text(saved, 1) == "1.2500\n"
     prefix, note = _cell_text(saved, 0).splitlines()
     assert prefix == sys.prefix and note == "first"      # the kernel ran in this environment
+    # executed without per-cell timing metadata (nbclient record_timing=False): clean diffs
+    assert [c.metadata.get("execution") for c in saved.cells] == [None] * len(saved.cells)
     accepted_bytes = path.read_bytes()
 
     # both files change; only the checked cell is compared; a dry run writes nothing

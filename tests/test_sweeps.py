@@ -317,3 +317,17 @@ def test_dask_client_equals_thread_pool(sorter, task):
                           chunk_size=1).run(executor=client).results_
     xr.testing.assert_identical(remote, local)
     assert remote.attrs["n_failed"] == 2
+
+
+@pytest.mark.parametrize("grid", [True, False])
+def test_sweep_results_round_trip_through_netcdf(sorter, task, grid, tmp_path):
+    if grid:
+        sweep = ir.Sweep(sorter, vary={"derived.link_ratio": [0.8, 1.2],
+                                       "tool.payload_kg": [0.0, 0.2]}, region=task, progress=False)
+    else:
+        sweep = ir.Sweep(sorter, variants=[{"derived.link_ratio": 0.8}, {"tool.payload_kg": 0.2}],
+                         region=task, progress=False)
+    results = run(sweep).results_
+    back = ir.load_results(ir.save_results(results, tmp_path / "sweep.nc"))
+    xr.testing.assert_identical(back, results)
+    assert back.attrs["parameters"] == results.attrs["parameters"]

@@ -37,7 +37,7 @@ def quick_review():
                           "tool acceleration.\n\n" + CAUTION_MD),
         new_code_cell("import numpy as np\nimport inertia_review as ir\nfrom inertia_review import plots\n"
                       "from inertia_review.widgets import ReviewApp, snapshot\n\n"
-                      "arm = ir.load_design(\"../designs/kestrel_a.toml\")\narm"),
+                      "arm = ir.demo_design(\"kestrel_a\")\narm"),
         new_markdown_cell("## The design and its task\nThe design file carries its task: a "
                           "rectangle in a vertical plane 50 mm beside the base, a required tool "
                           "acceleration of 2 m/s² in any direction, and a downward approach."),
@@ -75,7 +75,7 @@ def compare():
         new_code_cell("import inertia_review as ir\nfrom inertia_review import plots\n"
                       "from inertia_review.widgets import ComparisonBoard, snapshot\n\n"
                       "names = [\"kestrel_a\", \"kestrel_b\", \"kestrel_c\", \"kestrel_wall\"]\n"
-                      "arms = [ir.load_design(f\"../designs/{n}.toml\") for n in names]\n"
+                      "arms = [ir.demo_design(n) for n in names]\n"
                       "task = arms[0].task\nmaps = [ir.metric_map(a, task) for a in arms]"),
         new_markdown_cell("## Scores\nOne row per design, one column per score (units in the "
                           "header); the best value of each score is bold with a ★."),
@@ -105,7 +105,7 @@ def sweep_study():
                           "grid).\n\n" + CAUTION_MD),
         new_code_cell("import numpy as np\nimport inertia_review as ir\nfrom inertia_review import plots\n"
                       "from inertia_review.widgets import SweepExplorer, snapshot\n\n"
-                      "arm = ir.load_design(\"../designs/kestrel_a.toml\")\n"
+                      "arm = ir.demo_design(\"kestrel_a\")\n"
                       "r = arm.task.region\n"
                       "region = ir.Rectangle(r.center_m, r.axes, r.size_m, 0.02)\n"
                       "sweep = ir.Sweep(arm, vary={\"derived.link_ratio\": np.linspace(0.6, 1.4, 5),\n"
@@ -134,7 +134,7 @@ def baselines():
                           "```\ninertia-review rebaseline notebooks/04_baselines.ipynb\n```\n\n" + CAUTION_MD),
         new_code_cell("import inertia_review as ir\n\n"
                       "names = [\"kestrel_a\", \"kestrel_b\", \"kestrel_c\", \"kestrel_wall\", \"sorter_planar\"]\n"
-                      "arms = {n: ir.load_design(f\"../designs/{n}.toml\") for n in names}"),
+                      "arms = {n: ir.demo_design(n) for n in names}"),
         new_code_cell("# NBVAL_CHECK_OUTPUT\nfor name, arm in arms.items():\n"
                       "    print(ir.baseline_table([ir.metric_map(arm, arm.task)]))\n    print()"),
         new_code_cell("# NBVAL_CHECK_OUTPUT\n# joint-range summary (seeded sampling of the joint limits)\n"
@@ -169,7 +169,7 @@ def sizing_and_contact():
         new_code_cell("import numpy as np\nimport inertia_review as ir\nfrom inertia_review import plots\n"
                       "from inertia_review.widgets import ContactBoard, ContactMapPanel, CyclePanel, snapshot\n\n"
                       "names = [\"kestrel_a\", \"kestrel_b\", \"kestrel_c\"]\n"
-                      "arms = [ir.load_design(f\"../designs/{n}.toml\") for n in names]\n"
+                      "arms = [ir.demo_design(n) for n in names]\n"
                       "cycles = [ir.design_cycles(a)[0] for a in arms]\n"
                       "results = [ir.cycle_torques(a, c) for a, c in zip(arms, cycles)]"),
         new_markdown_cell("## Cycle torques against the ratings (accepted values)"),

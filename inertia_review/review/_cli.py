@@ -54,8 +54,10 @@ def _cmd_rebaseline(args):
 
 def _cmd_report(args):
     from ._notebooks import write_report
-    out = write_report(args.notebook, args.output)
-    print(f"wrote {out} (self-contained HTML review of {args.notebook})")
+    out = write_report(args.notebook, args.output, execute=not args.no_execute,
+                       no_input=args.no_input)
+    how = "saved outputs" if args.no_execute else "executed"
+    print(f"wrote {out} (self-contained HTML review of {args.notebook}, {how}, opens offline)")
     return 0
 
 
@@ -79,9 +81,13 @@ def build_parser():
     rebase.add_argument("--dry-run", action="store_true",
                         help="show the changes only; do not save (exit 1 if any changed)")
     rebase.set_defaults(func=_cmd_rebaseline)
-    report = sub.add_parser("report", help="execute a notebook and write a self-contained HTML review")
+    report = sub.add_parser("report", help="execute a notebook and write a self-contained HTML review that opens offline")
     report.add_argument("notebook")
     report.add_argument("-o", "--output", required=True, help="HTML file to write")
+    report.add_argument("--no-input", action="store_true",
+                        help="hide the code cells (a page for a review meeting)")
+    report.add_argument("--no-execute", action="store_true",
+                        help="render the saved notebook as it is, without running it")
     report.set_defaults(func=_cmd_report)
     return parser
 

@@ -5,17 +5,21 @@ from pathlib import Path
 
 from ..model._design_io import write_text_atomic
 
-__all__ = ["execute_notebook", "text_outputs", "rebaseline", "write_report"]
+__all__ = ["execute_notebook", "text_outputs", "rebaseline", "write_report", "offline_copy"]
 
 
 def execute_notebook(path, *, timeout=600, kernel_name="python3"):
-    """Run every cell of a notebook (in its own folder) and return the executed notebook."""
+    """Run every cell of a notebook (in its own folder) and return the executed notebook.
+
+    No per-cell timing metadata is recorded (``record_timing=False``).
+    """
     import nbformat
     from nbclient import NotebookClient
 
     path = Path(path)
     nb = nbformat.read(path, as_version=4)
-    client = NotebookClient(nb, timeout=timeout, kernel_name=kernel_name,
+    # record_timing=False: no per-cell execution timestamps, so saved notebooks diff cleanly
+    client = NotebookClient(nb, timeout=timeout, kernel_name=kernel_name, record_timing=False,
                             resources={"metadata": {"path": str(path.parent.resolve())}})
     client.execute()
     return nb
@@ -71,14 +75,86 @@ def rebaseline(path, *, accept=True, stream=print):
     return changed
 
 
-def write_report(path, output, *, execute=True):
-    """Write a self-contained HTML review of a notebook (images embedded), executed first."""
+WIDGET_VIEW = "application/vnd.jupyter.widget-view+json"
+WIDGET_NOTE = ("[live widget view: it needs a running Jupyter kernel and is not part of this "
+               "offline report; the notebook's snapshot cells show its state]")
+
+# The lab template without anything fetched from the network: no require.js, no MathJax, no
+# mermaid and no widget manager (all of them are script tags pointing at a CDN).
+_OFFLINE_TEMPLATE = """{%- extends 'lab/index.html.j2' -%}
+{%- block html_head_js -%}{%- endblock html_head_js -%}
+{%- block jupyter_widgets -%}{%- endblock jupyter_widgets -%}
+{%- block html_head_js_mathjax -%}{%- endblock html_head_js_mathjax -%}
+{%- block html_head_js_mermaidjs -%}{%- endblock html_head_js_mermaidjs -%}
+"""
+
+
+def offline_copy(nb):
+    """A copy of the notebook without live widget state, for a report that opens offline.
+
+    Each widget-view output loses its ``application/vnd.jupyter.widget-view+json`` part (which
+    only a widget manager loaded from the network could draw); its other parts (images, HTML,
+    text) stay, and a view that had nothing else becomes a short text note. The notebook's
+    widget state (``metadata.widgets``) is dropped.
+    """
+    import copy
+
+    nb = copy.deepcopy(nb)
+    nb.metadata.pop("widgets", None)
+    for cell in nb.cells:
+        for output in cell.get("outputs", []):
+            data = output.get("data")
+            if not data or WIDGET_VIEW not in data:
+                continue
+            del data[WIDGET_VIEW]
+            if set(data) <= {"text/plain"}:          # the bare widget repr says nothing offline
+                data.clear()
+                data["text/plain"] = WIDGET_NOTE
+    return nb
+
+
+def _strip_style_comments(html):
+    """Drop the comments of inline ``<style>`` blocks (the theme's credits carry web addresses)."""
+    import re
+
+    comment = re.compile(r"/\*.*?\*/", re.S)
+    return re.sub(r"(<style[^>]*>)(.*?)(</style>)",
+                  lambda m: m.group(1) + comment.sub("", m.group(2)) + m.group(3), html, flags=re.S)
+
+
+def write_report(path, output, *, execute=True, no_input=False):
+    """Write a self-contained HTML review of a notebook that opens offline.
+
+    Parameters
+    ----------
+    path : path-like
+        The notebook (``.ipynb``).
+    output : path-like
+        The HTML file to write (atomically).
+    execute : bool
+        Run the notebook in a fresh kernel first (default); ``False`` renders the saved
+        notebook with its saved outputs as they are.
+    no_input : bool
+        Hide the code cells' sources and prompts (a page for a review meeting).
+
+    Images are embedded as data URIs; no script, style or font is loaded from the network
+    (no require.js, MathJax, mermaid or widget manager); live widget views are replaced as in
+    :func:`offline_copy`. TeX in Markdown cells is therefore shown as typed. The notebook
+    file itself is not changed.
+    """
+    import jinja2
     import nbformat
     from nbconvert import HTMLExporter
 
     nb = execute_notebook(path) if execute else nbformat.read(Path(path), as_version=4)
-    exporter = HTMLExporter(template_name="lab")
+    exporter = HTMLExporter(template_name="lab",
+                            extra_loaders=[jinja2.DictLoader({"offline.html.j2": _OFFLINE_TEMPLATE})],
+                            template_file="offline.html.j2")
     exporter.embed_images = True
-    body, _ = exporter.from_notebook_node(nb)
-    write_text_atomic(output, body)
+    if no_input:
+        exporter.exclude_input = True
+        exporter.exclude_input_prompt = True
+        exporter.exclude_output_prompt = True
+    body, _ = exporter.from_notebook_node(offline_copy(nb))
+    write_text_atomic(output, _strip_style_comments(body))
     return Path(output)

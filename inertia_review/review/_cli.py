@@ -61,6 +61,15 @@ def _cmd_report(args):
     return 0
 
 
+def _cmd_present(args):
+    from ._present import present
+    try:
+        return present(args.notebook, port=args.port, token=args.token)
+    except ValueError as exc:
+        print(exc, file=sys.stderr)
+        return 2
+
+
 def build_parser():
     parser = argparse.ArgumentParser(prog="inertia-review", description=(
         "Review robot-arm designs: apparent tool mass, isotropy and torque headroom."))
@@ -89,6 +98,12 @@ def build_parser():
     report.add_argument("--no-execute", action="store_true",
                         help="render the saved notebook as it is, without running it")
     report.set_defaults(func=_cmd_report)
+    present = sub.add_parser("present", help="serve a review notebook as a web page without code "
+                                             "cells, with live widgets (Voila, 127.0.0.1, token)")
+    present.add_argument("notebook")
+    present.add_argument("--port", type=int, default=None, help="TCP port (default: a free one)")
+    present.add_argument("--token", default=None, help="access token (default: a random one)")
+    present.set_defaults(func=_cmd_present)
     return parser
 
 

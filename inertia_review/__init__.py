@@ -80,7 +80,7 @@ __all__ = [
     "solve_positions", "PositionSolution", "STATUS", "SOLVED",
     "metric_map", "METRIC_ATTRS", "design_scores", "scores_table", "SCORE_COLUMNS",
     "Sweep", "parameter_paths", "save_results", "load_results", "baseline_table", "scores_view",
-    # design search (batched variants, optimisation under constraints, Pareto sets)
+    # design search (batched variants, optimisation under constraints, Pareto sets, sensitivity)
     "DesignSearch", "pareto_mask", "score_variants", "one_at_a_time", "global_sensitivity",
     # contact speeds beside people (transient-contact model, ISO/TS 15066:2016 Annex A)
     "load_body_regions", "BodyRegion", "BodyRegions", "reduced_mass", "transient_energy_limit",

@@ -20,7 +20,7 @@ from ..model._paths import get_value
 from ._scores import SCORE_COLUMNS
 from ._variants import score_variants, variant_params
 
-__all__ = ["DesignSearch", "pareto_mask", "check_space"]
+__all__ = ["DesignSearch", "check_space", "pareto_mask"]
 
 _OPS = {">=": operator.ge, "<=": operator.le}
 _CONSTRAINT = re.compile(r"^\s*(\S+)\s*(>=|<=|==)\s*(\S+)\s*$")
@@ -91,21 +91,21 @@ def check_space(spec, space):
         if isinstance(entry, tuple) and len(entry) == 2:
             low, high = float(entry[0]), float(entry[1])
             if not (np.isfinite(low) and np.isfinite(high) and low < high):
-                raise DesignError(spec["name"], [(path, f"bounds must be finite with low < "
-                                                        f"high; got {entry!r}")])
+                raise DesignError(spec["name"], [(path, (f"bounds must be finite with low < "
+                                                        f"high; got {entry!r}"))])
             ends, options = (low, high), None
         else:
             options = np.asarray(list(entry), float)
             if options.size < 2 or not np.all(np.isfinite(options)):
-                raise DesignError(spec["name"], [(path, "choices must be a list of at least "
-                                                        "two finite numbers")])
+                raise DesignError(spec["name"], [(path, ("choices must be a list of at least "
+                                                        "two finite numbers"))])
             ends = (float(options.min()), float(options.max()))
         for end in (options if options is not None else ends):
             try:
                 variant_params(spec, {path: float(end)})
             except (DesignError, ValueError) as exc:
-                raise DesignError(spec["name"], [(path, f"the value {float(end):g} of the "
-                                                        f"search space is not accepted: {exc}")]) \
+                raise DesignError(spec["name"], [(path, (f"the value {float(end):g} of the "
+                                                        f"search space is not accepted: {exc}"))]) \
                     from None
         paths.append(path)
         bounds.append(ends if options is None else (0.0, options.size - 1.0))

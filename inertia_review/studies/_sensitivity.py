@@ -16,7 +16,7 @@ from ._scores import SCORE_COLUMNS
 from ._search import check_space
 from ._variants import score_variants
 
-__all__ = ["one_at_a_time", "global_sensitivity"]
+__all__ = ["global_sensitivity", "one_at_a_time"]
 
 
 def _check_score(score):
@@ -101,8 +101,8 @@ def one_at_a_time(arm, vary, score="gci", region=None, *, accel_mps2=None, postu
     variants = [{}]
     for path, (low, high) in zip(paths, bounds):
         variants += [{path: float(low)}, {path: float(high)}]
-    y = _scores(arm, variants, region, score, dict(accel_mps2=accel_mps2, posture=posture,
-                                                   payload_kg=payload_kg))
+    y = _scores(arm, variants, region, score, {"accel_mps2": accel_mps2, "posture": posture,
+                                                   "payload_kg": payload_kg})
     base = y[0]
     table = pd.DataFrame({
         "path": paths,
@@ -147,10 +147,10 @@ def global_sensitivity(arm, vary, score="gci", region=None, *, method="morris",
         ``attrs``: ``score``, ``units``, ``design``, ``method``, ``evaluations``, ``seed``.
     """
     _check_score(score)
-    spec, paths, bounds = _check_vary(arm, vary)
+    _spec, paths, bounds = _check_vary(arm, vary)
     region = _region(arm, region)
     problem = {"num_vars": len(paths), "names": list(paths), "bounds": bounds.tolist()}
-    options = dict(accel_mps2=accel_mps2, posture=posture, payload_kg=payload_kg)
+    options = {"accel_mps2": accel_mps2, "posture": posture, "payload_kg": payload_kg}
     if method == "morris":
         from SALib.analyze import morris as analyze
         from SALib.sample import morris as sample
@@ -184,5 +184,5 @@ def global_sensitivity(arm, vary, score="gci", region=None, *, method="morris",
     order = np.argsort(-table[key].to_numpy(), kind="stable")
     table = table.iloc[order].set_index("path")
     table.attrs.update(score=score, units=SCORE_COLUMNS[score][0], design=arm.name,
-                       method=method, evaluations=int(len(X)), seed=seed)
+                       method=method, evaluations=len(X), seed=seed)
     return table

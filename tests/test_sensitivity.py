@@ -152,3 +152,69 @@ def test_no_finite_score_is_an_error_not_nan():
     # no actuator ratings on this arm: the headroom score has no value
     with pytest.raises(ValueError, match="headroom_worst"):
         ir.one_at_a_time(_arm(), {L1: (0.6, 1.0)}, "headroom_worst", region=_point(0.9))
+
+
+# --------------------------------------------------------------------------
+# plot_tornado (Agg backend)
+# --------------------------------------------------------------------------
+@pytest.fixture
+def plt():
+    import matplotlib
+
+    matplotlib.use("Agg")
+    from matplotlib import pyplot
+
+    yield pyplot
+    pyplot.close("all")
+
+
+def test_tornado_bars_carry_the_table_and_the_image_is_drawn(plt, tmp_path):
+    import inertia_review.plots as irp
+
+    table = ir.one_at_a_time(_arm(), {M1: (0.5, 1.5), PAYLOAD: (0.0, 2.0), L1: (0.6, 1.0)},
+                             "moving_mass_kg", region=_point(0.9))
+    art = irp.plot_tornado(table)
+    # bars from the baseline (2 kg) to the hand values of the linear score (see above)
+    assert art.paths == [PAYLOAD, M1, L1]
+    lows = [(b.get_x(), b.get_x() + b.get_width()) for b in art.low_bars]
+    highs = [(b.get_x(), b.get_x() + b.get_width()) for b in art.high_bars]
+    np.testing.assert_allclose(lows, [(2.0, 2.0), (2.0, 1.5), (2.0, 2.0)], atol=1e-12)
+    np.testing.assert_allclose(highs, [(2.0, 4.0), (2.0, 2.5), (2.0, 2.0)], atol=1e-12)
+    assert art.baseline.get_xdata()[0] == pytest.approx(2.0)
+    # largest swing on top; units in every label (mm for lengths, kg for masses)
+    ys = [b.get_y() for b in art.low_bars]
+    assert ys == sorted(ys, reverse=True)
+    assert art.ax.get_xlabel() == "moving mass [kg]"
+    ticks = [t.get_text() for t in art.ax.get_yticklabels()]
+    assert "[kg]" in ticks[0] and "0 to 2 kg" in ticks[0]
+    assert "[mm]" in ticks[2] and "600 to 1000 mm" in ticks[2]
+    assert art.caution is None
+    out = tmp_path / "tornado.png"
+    art.ax.figure.savefig(out, dpi=60)
+    image = plt.imread(out)
+    assert image.shape[0] > 100 and image.shape[1] > 100
+    assert np.ptp(image[..., :3]) > 0.5          # something drawn, not a blank canvas
+
+
+def test_tornado_of_a_torque_score_carries_the_caution(plt):
+    import inertia_review.plots as irp
+    from inertia_review.studies._cautions import TORQUE_CAUTION
+
+    arm = ir.load_design("designs/kestrel_a.toml")
+    region = ir.Rectangle((0.38, 0.05, 0.20), ((1.0, 0.0, 0.0), (0.0, 0.0, 1.0)), (0.2, 0.2),
+                          0.1)
+    table = ir.one_at_a_time(arm, {PAYLOAD: (0.0, 0.5)}, "headroom_worst", region=region,
+                             accel_mps2=2.0)
+    _, ax = plt.subplots()
+    art = irp.plot_tornado(table, ax=ax)
+    assert art.ax is ax
+    assert " ".join(art.caution.get_text().split()) == " ".join(TORQUE_CAUTION.split())
+
+
+def test_tornado_refuses_a_global_table(plt):
+    import inertia_review.plots as irp
+
+    table = ir.global_sensitivity(_arm(), {L1: (0.6, 1.0)}, "gci", region=_point(0.9),
+                                  n_trajectories=2, seed=0)
+    with pytest.raises(ValueError, match="one_at_a_time"):
+        irp.plot_tornado(table)

@@ -12,6 +12,8 @@ Maps (from :func:`inertia_review.metric_map`)
     plot_small_multiples, plot_difference_map, plot_headroom_map
 Sweeps (from :class:`inertia_review.Sweep`)
     plot_tradeoff
+Sensitivity (from :func:`inertia_review.one_at_a_time`)
+    plot_tornado
 One configuration (Display objects: ``from_arm``, ``plot``, ``update``)
     MassEllipseDisplay, TorqueBarsDisplay
 
@@ -45,6 +47,7 @@ from ._map_plots import (
                            plot_small_multiples,
 )
 from ._safety_plots import ContactMapArtists, plot_contact_speed_map
+from ._search_plots import TornadoArtists, plot_tornado
 from ._style import CMAP_DIVERGING, CMAP_SEQUENTIAL, COLORS, plot_style
 from ._tradeoff import TradeoffArtists, plot_tradeoff
 
@@ -54,6 +57,8 @@ __all__ = [
     "plot_small_multiples", "plot_difference_map", "plot_headroom_map",
     # sweeps
     "plot_tradeoff",
+    # sensitivity (one-at-a-time tables)
+    "plot_tornado", "TornadoArtists",
     # move cycles against the actuator ratings
     "plot_cycle_torques", "plot_cycle_utilisation", "CycleTorqueArtists",
     "CycleUtilisationArtists",

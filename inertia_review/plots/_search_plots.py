@@ -10,7 +10,7 @@ from . import _style
 from ._labels import parameter_label, score_label
 from ._style import COLORS
 
-__all__ = ["TornadoArtists", "plot_tornado"]
+__all__ = ["ParetoArtists", "TornadoArtists", "plot_pareto", "plot_tornado"]
 
 _TORQUE_SCORES = ("headroom_worst", "headroom_positive_fraction", "accel_capability_min")
 _TABLE_COLUMNS = ("low", "high", "score_low", "score_high", "score_baseline", "swing")
@@ -107,3 +107,95 @@ def plot_tornado(table, *, ax=None, title=None, top=None):
             caution = layout.caution(TORQUE_CAUTION, margin_in=margin)
         layout.finish()
     return TornadoArtists(low_bars, high_bars, baseline, paths, caution, ax)
+
+
+@dataclass
+class ParetoArtists:
+    """Artists of :func:`plot_pareto`.
+
+    Attributes
+    ----------
+    feasible, infeasible, pareto : PathCollection
+        Evaluated designs that meet every constraint, those that do not (or are invalid
+        designs: not drawn), and the Pareto set; offsets in screen units (mm, deg, kg).
+    front : Line2D
+        The Pareto set joined in order of ``x``.
+    indices : numpy.ndarray
+        ``evaluation`` numbers of the Pareto points, in the order of the front.
+    """
+
+    feasible: object
+    infeasible: object
+    pareto: object
+    front: object
+    indices: object
+    ax: object
+
+
+def _quantity(results, name):
+    """(values in screen units, label) of a score variable or a parameter path."""
+    if name in results.data_vars:
+        da = results[name]
+        if da.dtype.kind != "f":
+            raise ValueError(f"'{name}' is not a numeric score")
+        label = score_label(da, name)
+        return np.asarray(da.values, float), label
+    if name in results.coords and name != "evaluation":
+        label, factor = parameter_label(name)
+        return np.asarray(results[name].values, float) * factor, label
+    numeric = [k for k, v in results.data_vars.items() if v.dtype.kind == "f"]
+    raise KeyError(f"'{name}' is neither a score ({', '.join(numeric)}) nor a searched "
+                   f"parameter ({', '.join(results.attrs.get('parameters', []))})")
+
+
+def plot_pareto(results, x, y, *, ax=None, title=None):
+    """Evaluated designs of a search on two quantities, the Pareto set marked.
+
+    Parameters
+    ----------
+    results : xarray.Dataset or DesignSearch
+        ``DesignSearch(...).run().results_`` (over ``evaluation``, with ``feasible`` and
+        ``pareto``), or the run search itself.
+    x, y : str
+        Score variables (e.g. ``"moving_mass_kg"``, ``"gci"``) or searched parameter paths
+        (shown in mm / deg / kg).
+    ax : matplotlib Axes, optional
+
+    Returns
+    -------
+    ParetoArtists
+    """
+    results = getattr(results, "results_", results)
+    for needed in ("feasible", "pareto"):
+        if needed not in getattr(results, "data_vars", {}):
+            raise ValueError(f"plot_pareto needs DesignSearch results (no '{needed}' variable)")
+    xs, xlabel = _quantity(results, x)
+    ys, ylabel = _quantity(results, y)
+    finite = np.isfinite(xs) & np.isfinite(ys)
+    feasible = np.asarray(results["feasible"].values, bool) & finite
+    pareto = np.asarray(results["pareto"].values, bool) & finite
+    infeasible = ~feasible & finite
+    order = np.flatnonzero(pareto)[np.argsort(xs[pareto], kind="stable")]
+    with _style.plot_style():
+        layout = _style.Layout(ax, height_in=5.0)
+        ax = layout.ax
+        ax.grid(True, color=COLORS["grid"], linewidth=0.6, zorder=0)
+        ax.set_axisbelow(True)
+        bad = ax.scatter(xs[infeasible], ys[infeasible], s=14, marker="x", linewidths=0.8,
+                         color=COLORS["muted"], zorder=2,
+                         label=f"misses a constraint ({int(infeasible.sum())})")
+        good = ax.scatter(xs[feasible], ys[feasible], s=18, color=COLORS["light"], alpha=0.6,
+                          zorder=3, label=f"meets the constraints ({int(feasible.sum())})")
+        (front,) = ax.plot(xs[order], ys[order], color=COLORS["probe"], linewidth=1.2,
+                           zorder=4)
+        best = ax.scatter(xs[order], ys[order], s=46, color=COLORS["probe"],
+                          edgecolors="white", linewidths=0.8, zorder=5,
+                          label=f"Pareto set ({order.size})")
+        ax.set_xlabel(xlabel)
+        ax.set_ylabel(ylabel)
+        design = results.attrs.get("design", "")
+        ax.set_title(f"{design}: evaluated designs" if title is None else title)
+        layout.legend([bad, good, best])
+        layout.finish()
+    return ParetoArtists(good, bad, best, front, np.asarray(results["evaluation"].values)[order],
+                         ax)

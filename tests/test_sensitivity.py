@@ -48,6 +48,7 @@ def test_one_at_a_time_swing_matches_closed_form_isotropy():
     assert table.loc[PAYLOAD, "swing"] == 0.0
     assert list(table.index) == [L1, PAYLOAD]
     assert table.attrs["score"] == "gci" and table.attrs["units"] == "1"
+    assert "caution" not in table.attrs
 
 
 def test_one_at_a_time_reaches_the_isotropic_proportion():
@@ -206,6 +207,7 @@ def test_tornado_of_a_torque_score_carries_the_caution(plt):
     table = ir.one_at_a_time(arm, {PAYLOAD: (0.0, 0.5)}, "headroom_worst", region=region,
                              accel_mps2=2.0)
     _, ax = plt.subplots()
+    assert table.attrs["caution"] == TORQUE_CAUTION       # the table carries it too
     art = irp.plot_tornado(table, ax=ax)
     assert art.ax is ax
     assert " ".join(art.caution.get_text().split()) == " ".join(TORQUE_CAUTION.split())

@@ -6,13 +6,13 @@ from types import SimpleNamespace
 import numpy as np
 
 from ..studies._cautions import TORQUE_CAUTION
+from ..studies._sensitivity import TORQUE_SCORES
 from . import _style
 from ._labels import parameter_label, score_label
 from ._style import COLORS
 
 __all__ = ["ParetoArtists", "TornadoArtists", "plot_pareto", "plot_tornado"]
 
-_TORQUE_SCORES = ("headroom_worst", "headroom_positive_fraction", "accel_capability_min")
 _TABLE_COLUMNS = ("low", "high", "score_low", "score_high", "score_baseline", "swing")
 
 
@@ -98,13 +98,13 @@ def plot_tornado(table, *, ax=None, title=None, top=None):
         ax.set_title(f"{design}: one-at-a-time sensitivity" if title is None else title)
         layout.legend([low_bars, high_bars, baseline])
         caution = None
-        if score in _TORQUE_SCORES:
+        if score in TORQUE_SCORES or "caution" in table.attrs:
             margin = 0.0
             if layout.own:                     # the notes strip starts under the Axes
                 renderer = ax.figure.canvas.get_renderer()
                 margin = max(t.get_window_extent(renderer).width
                              for t in ax.get_yticklabels()) / ax.figure.dpi
-            caution = layout.caution(TORQUE_CAUTION, margin_in=margin)
+            caution = layout.caution(table.attrs.get("caution", TORQUE_CAUTION), margin_in=margin)
         layout.finish()
     return TornadoArtists(low_bars, high_bars, baseline, paths, caution, ax)
 

@@ -12,11 +12,15 @@ import numpy as np
 import pandas as pd
 
 from ..model._paths import get_value
+from ._cautions import TORQUE_CAUTION
 from ._scores import SCORE_COLUMNS
 from ._search import check_space
 from ._variants import score_variants
 
 __all__ = ["global_sensitivity", "one_at_a_time"]
+
+#: scores from torque ratings and accelerations: their tables carry ``attrs["caution"]``
+TORQUE_SCORES = ("headroom_worst", "headroom_positive_fraction", "accel_capability_min")
 
 
 def _check_score(score):
@@ -37,6 +41,13 @@ def _check_vary(arm, vary):
     spec = arm.to_dict()
     paths, bounds, _ = check_space(spec, space)
     return spec, paths, np.asarray(bounds, float)
+
+
+def _attrs(table, arm, score, **extra):
+    table.attrs.update(score=score, units=SCORE_COLUMNS[score][0], design=arm.name, **extra)
+    if score in TORQUE_SCORES:
+        table.attrs["caution"] = TORQUE_CAUTION
+    return table
 
 
 def _region(arm, region):
@@ -88,7 +99,9 @@ def one_at_a_time(arm, vary, score="gci", region=None, *, accel_mps2=None, postu
     pandas.DataFrame
         Indexed by ``path``, sorted by ``|swing|`` (largest first); columns ``baseline_value``,
         ``low``, ``high`` (parameter values), ``score_low``, ``score_high``, ``score_baseline``,
-        ``swing`` (= score_high - score_low). ``attrs``: ``score``, ``units``, ``design``.
+        ``swing`` (= score_high - score_low). ``attrs``: ``score``, ``units``, ``design``, and
+        ``caution`` (the torque caution) for a headroom or acceleration score: a
+        design-stage estimate, not a validation.
 
     Raises
     ------
@@ -114,9 +127,7 @@ def one_at_a_time(arm, vary, score="gci", region=None, *, accel_mps2=None, postu
     table["swing"] = table["score_high"] - table["score_low"]
     order = np.argsort(-np.abs(table["swing"].to_numpy()), kind="stable")
     table = table.iloc[order].set_index("path")
-    table.attrs.update(score=score, units=SCORE_COLUMNS[score][0], design=arm.name,
-                       method="one_at_a_time")
-    return table
+    return _attrs(table, arm, score, method="one_at_a_time")
 
 
 def global_sensitivity(arm, vary, score="gci", region=None, *, method="morris",
@@ -183,6 +194,4 @@ def global_sensitivity(arm, vary, score="gci", region=None, *, method="morris",
         raise ValueError(f"`method` must be 'morris' or 'sobol'; got {method!r}")
     order = np.argsort(-table[key].to_numpy(), kind="stable")
     table = table.iloc[order].set_index("path")
-    table.attrs.update(score=score, units=SCORE_COLUMNS[score][0], design=arm.name,
-                       method=method, evaluations=len(X), seed=seed)
-    return table
+    return _attrs(table, arm, score, method=method, evaluations=len(X), seed=seed)

@@ -61,6 +61,7 @@ from .studies._maps import METRIC_ATTRS, metric_map
 from .studies._profiles import MotionProfile, s_curve_profile, trapezoidal_profile
 from .studies._scores import SCORE_COLUMNS, design_scores, scores_table
 from .studies._search import DesignSearch, pareto_mask
+from .studies._sensitivity import global_sensitivity, one_at_a_time
 from .studies._sweeps import Sweep
 from .studies._variants import score_variants
 
@@ -83,8 +84,8 @@ __all__ = [
     "solve_positions", "PositionSolution", "STATUS", "SOLVED",
     "metric_map", "METRIC_ATTRS", "design_scores", "scores_table", "SCORE_COLUMNS",
     "Sweep", "parameter_paths", "save_results", "load_results", "baseline_table", "scores_view",
-    # design search (batched variants, optimisation under constraints, Pareto sets)
-    "DesignSearch", "pareto_mask", "score_variants",
+    # design search (batched variants, optimisation under constraints, Pareto sets, sensitivity)
+    "DesignSearch", "pareto_mask", "score_variants", "one_at_a_time", "global_sensitivity",
     # contact speeds beside people (transient-contact model, ISO/TS 15066:2016 Annex A)
     "load_body_regions", "BodyRegion", "BodyArea", "BodyRegions", "reduced_mass",
     "transient_energy_limit", "transient_speed_limit", "pressure_speed_limit",

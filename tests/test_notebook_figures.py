@@ -121,6 +121,13 @@ res = ir.Sweep(arm, vary={{"derived.link_ratio": [0.8, 1.2], "mount.rpy_deg[1]":
 cycle = ir.cycle_torques(arm, ir.design_cycles(arm)[0], sample_rate_hz=50.0)
 contact = ir.contact_speed_map(arm, region, "hand", contact_area_cm2=1.0, direction=(0.0, 0.0, -1.0))
 q = np.radians([10.0, 30.0, -60.0])
+tornado = ir.one_at_a_time(arm, {{"derived.link_ratio": (0.8, 1.2), "tool.payload_kg": (0.0, 0.5)}},
+                           "gci", region=ir.Rectangle(r.center_m, r.axes, r.size_m, 0.08))
+planar = ir.planar_chain([0.4, 0.3], [1.0, 0.8], plane_tilt_deg=90.0, name="pareto")
+search = ir.DesignSearch(planar, {{"joints[0].link_length_m": (0.2, 0.6),
+                                   "joints[0].link.mass_kg": (0.5, 1.5)}},
+                         ["max:gci", "min:moving_mass_kg"], region=ir.PointSet(((0.4, 0.2, 0.0),)),
+                         generations=2, population=8, progress=False).run(random_state=0)
 """
 
 #: one call per public plot function; the result type is what the cell returns
@@ -134,6 +141,8 @@ CALLS = {
     "plot_difference_map": ("plots.plot_difference_map(maps[1], maps[0])", "MapArtists"),
     "plot_headroom_map": ("plots.plot_headroom_map(ds)", "HeadroomArtists"),
     "plot_tradeoff": ('plots.plot_tradeoff(res, "gci")', "TradeoffArtists"),
+    "plot_tornado": ("plots.plot_tornado(tornado)", "TornadoArtists"),
+    "plot_pareto": ('plots.plot_pareto(search, "moving_mass_kg", "gci")', "ParetoArtists"),
     "plot_cycle_torques": ("plots.plot_cycle_torques(cycle)", "CycleTorqueArtists"),
     "plot_cycle_utilisation": ("plots.plot_cycle_utilisation(cycle)", "CycleUtilisationArtists"),
     "plot_contact_speed_map": ("plots.plot_contact_speed_map(contact)", "ContactMapArtists"),

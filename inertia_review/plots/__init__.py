@@ -12,6 +12,9 @@ Maps (from :func:`inertia_review.metric_map`)
     plot_small_multiples, plot_difference_map, plot_headroom_map
 Sweeps (from :class:`inertia_review.Sweep`)
     plot_tradeoff
+Design search and sensitivity (:class:`inertia_review.DesignSearch`,
+:func:`inertia_review.one_at_a_time`)
+    plot_pareto, plot_tornado
 One configuration (Display objects: ``from_arm``, ``plot``, ``update``)
     MassEllipseDisplay, TorqueBarsDisplay
 
@@ -45,6 +48,7 @@ from ._map_plots import (
                            plot_small_multiples,
 )
 from ._safety_plots import ContactMapArtists, plot_contact_speed_map
+from ._search_plots import ParetoArtists, TornadoArtists, plot_pareto, plot_tornado
 from ._style import CMAP_DIVERGING, CMAP_SEQUENTIAL, COLORS, plot_style
 from ._tradeoff import TradeoffArtists, plot_tradeoff
 
@@ -54,6 +58,8 @@ __all__ = [
     "plot_small_multiples", "plot_difference_map", "plot_headroom_map",
     # sweeps
     "plot_tradeoff",
+    # design search and sensitivity (search results, one-at-a-time tables)
+    "plot_pareto", "ParetoArtists", "plot_tornado", "TornadoArtists",
     # move cycles against the actuator ratings
     "plot_cycle_torques", "plot_cycle_utilisation", "CycleTorqueArtists",
     "CycleUtilisationArtists",

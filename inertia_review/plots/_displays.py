@@ -140,6 +140,10 @@ class MassEllipseDisplay:
         self.title = title
         self._arm = None
 
+    def __repr__(self):
+        masses = ", ".join(f"{m:.4g}" for m in np.asarray(self.masses_kg, float))
+        return f"MassEllipseDisplay(title={self.title!r}, masses_kg=[{masses}])"
+
     @staticmethod
     def _compute(arm, q, plane, scale):
         q = _single_q(arm, q)
@@ -325,6 +329,10 @@ class TorqueBarsDisplay:
         self.caution = caution
         self.title = title
         self._arm = None
+
+    def __repr__(self):
+        return (f"TorqueBarsDisplay(title={self.title!r}, joints={list(self.joint_names)!r}, "
+                f"accel_mps2={self.accel_mps2!r})")
 
     @staticmethod
     def _compute(arm, q, accel_mps2):

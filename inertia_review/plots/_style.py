@@ -187,13 +187,18 @@ class Layout:
                                           ncols=ncols or 1)
         return self.legend_
 
-    def caution(self, text, *, fontsize=CAUTION_FONTSIZE):
-        """Place ``text`` (a caution) under the legend in the notes strip, or under the Axes."""
+    def caution(self, text, *, fontsize=CAUTION_FONTSIZE, margin_in=0.0):
+        """Place ``text`` (a caution) under the legend in the notes strip, or under the Axes.
+
+        ``margin_in``: width [in] left of the Axes that the notes strip also loses (e.g.
+        long tick labels), so the wrapped text still fits the figure.
+        """
         text = " ".join(str(text).split())
         if self.notes is None:
             self.caution_ = add_caution(self.axes[-1], text, fontsize=fontsize)
             return self.caution_
-        chars = max(40, int((self.figure.get_figwidth() - 0.4) * 72.0 / (0.6 * fontsize)))
+        width = self.figure.get_figwidth() - 0.4 - float(margin_in)
+        chars = max(40, int(width * 72.0 / (0.6 * fontsize)))
         wrapped = textwrap.fill(text, width=chars)
         self._caution_lines = wrapped.count("\n") + 1
         anchor = ("axes fraction", self.legend_) if self.legend_ is not None else "axes fraction"

@@ -20,7 +20,7 @@ from ..model._paths import get_value
 from ._scores import SCORE_COLUMNS
 from ._variants import score_variants, variant_params
 
-__all__ = ["DesignSearch", "pareto_mask"]
+__all__ = ["DesignSearch", "check_space", "pareto_mask"]
 
 _OPS = {">=": operator.ge, "<=": operator.le}
 _CONSTRAINT = re.compile(r"^\s*(\S+)\s*(>=|<=|==)\s*(\S+)\s*$")
@@ -68,6 +68,49 @@ def _parse_constraint(con):
     except (TypeError, ValueError):
         raise ValueError(f"constraint {con!r}: {value!r} is not a number") from None
     return name, op, value
+
+
+def check_space(spec, space):
+    """Validate a search space against a design spec (dict from ``Arm.to_dict``).
+
+    Returns (paths, bounds (d, 2), choices): ``choices[i]`` is None for a continuous
+    path, else the allowed values (and ``bounds[i]`` the index range). Raises
+    DesignError naming the path for an unknown path, bad bounds or an end of the
+    range that design validation does not accept.
+    """
+    if not isinstance(space, dict) or not space:
+        raise ValueError("`space` must be a non-empty dict of {parameter path: (low, high) "
+                         "or [choices]}")
+    paths, bounds, choices = [], [], []
+    for path, entry in space.items():
+        try:
+            get_value(spec, path)
+        except (KeyError, ValueError) as exc:
+            raise DesignError(spec["name"], [(path, str(exc.args[0]).split(": ", 1)[-1])]) \
+                from None
+        if isinstance(entry, tuple) and len(entry) == 2:
+            low, high = float(entry[0]), float(entry[1])
+            if not (np.isfinite(low) and np.isfinite(high) and low < high):
+                raise DesignError(spec["name"], [(path, (f"bounds must be finite with low < "
+                                                        f"high; got {entry!r}"))])
+            ends, options = (low, high), None
+        else:
+            options = np.asarray(list(entry), float)
+            if options.size < 2 or not np.all(np.isfinite(options)):
+                raise DesignError(spec["name"], [(path, ("choices must be a list of at least "
+                                                        "two finite numbers"))])
+            ends = (float(options.min()), float(options.max()))
+        for end in (options if options is not None else ends):
+            try:
+                variant_params(spec, {path: float(end)})
+            except (DesignError, ValueError) as exc:
+                raise DesignError(spec["name"], [(path, (f"the value {float(end):g} of the "
+                                                        f"search space is not accepted: {exc}"))]) \
+                    from None
+        paths.append(path)
+        bounds.append(ends if options is None else (0.0, options.size - 1.0))
+        choices.append(options)
+    return paths, bounds, choices
 
 
 class DesignSearch:
@@ -123,38 +166,7 @@ class DesignSearch:
     # ------------------------------------------------------------------ checks
     def _plan(self):
         spec = self.arm.to_dict()
-        if not isinstance(self.space, dict) or not self.space:
-            raise ValueError("`space` must be a non-empty dict of {parameter path: (low, high) "
-                             "or [choices]}")
-        paths, bounds, choices = [], [], []
-        for path, entry in self.space.items():
-            try:
-                get_value(spec, path)
-            except (KeyError, ValueError) as exc:
-                raise DesignError(spec["name"], [(path, str(exc.args[0]).split(": ", 1)[-1])]) \
-                    from None
-            if isinstance(entry, tuple) and len(entry) == 2:
-                low, high = float(entry[0]), float(entry[1])
-                if not (np.isfinite(low) and np.isfinite(high) and low < high):
-                    raise DesignError(spec["name"], [(path, f"bounds must be finite with low < "
-                                                            f"high; got {entry!r}")])
-                ends, options = (low, high), None
-            else:
-                options = np.asarray(list(entry), float)
-                if options.size < 2 or not np.all(np.isfinite(options)):
-                    raise DesignError(spec["name"], [(path, "choices must be a list of at least "
-                                                            "two finite numbers")])
-                ends = (float(options.min()), float(options.max()))
-            for end in (options if options is not None else ends):
-                try:
-                    variant_params(spec, {path: float(end)})
-                except (DesignError, ValueError) as exc:
-                    raise DesignError(spec["name"], [(path, f"the value {float(end):g} of the "
-                                                            f"search space is not accepted: {exc}")]) \
-                        from None
-            paths.append(path)
-            bounds.append(ends if options is None else (0.0, options.size - 1.0))
-            choices.append(options)
+        paths, bounds, choices = check_space(spec, self.space)
         objectives = [_parse_objective(o) for o in self.objectives]
         if not objectives:
             raise ValueError("give at least one objective, e.g. 'max:gci'")

@@ -175,3 +175,18 @@ def test_report_in_a_browser_with_the_network_blocked(tmp_path):
     assert blocked == [] and failed == [] and errors == []
     assert len(sizes) >= n_png
     assert all(done and w > 0 and h > 0 for done, w, h in sizes), sizes
+
+
+def test_collapsed_record_cells_are_folded_in_the_report(executed, tmp_path):
+    """A cell whose outputs are collapsed in the notebook (the nbval-checked record) is folded
+    behind a <details> element in the report; other outputs stay open."""
+    nb = nbformat.read(executed, as_version=4)
+    nb.cells[1].metadata["jupyter"] = {"outputs_hidden": True}
+    folded = tmp_path / "folded.ipynb"
+    nbformat.write(nb, folded)
+    _notebooks.write_report(folded, tmp_path / "folded.html", execute=False)
+    page = (tmp_path / "folded.html").read_text(encoding="utf-8")
+    details = re.findall(r'<details class="ir-collapsed-record">(.*?)</details>', page, re.S)
+    assert len(details) == 1
+    assert "report marker 42.125 kg" in details[0]
+    assert all(png not in details[0] for png in _pngs(nb))

@@ -86,6 +86,12 @@ _OFFLINE_TEMPLATE = """{%- extends 'lab/index.html.j2' -%}
 {%- block jupyter_widgets -%}{%- endblock jupyter_widgets -%}
 {%- block html_head_js_mathjax -%}{%- endblock html_head_js_mathjax -%}
 {%- block html_head_js_mermaidjs -%}{%- endblock html_head_js_mermaidjs -%}
+{%- block outputs -%}
+{%- if cell.metadata.get('jupyter', {}).get('outputs_hidden') -%}
+<details class="ir-collapsed-record"><summary>checked record (collapsed in the notebook; click to
+expand)</summary>{{ super() }}</details>
+{%- else -%}{{ super() }}{%- endif -%}
+{%- endblock outputs -%}
 """
 
 

@@ -211,10 +211,50 @@ def sizing_and_contact():
     ]
 
 
+def design_search():
+    return [
+        new_markdown_cell("# Design search: link proportions of kestrel_a\n\n" + SCENARIO_MD + "\n\n"
+                          "The search proposes shoulder-link lengths and link ratios that trade "
+                          "isotropy (GCI) against torque headroom, under the review's constraints; "
+                          "the sensitivity table says which parameters matter. The search is seeded, "
+                          "so the proposals below are the same on every run.\n\n" + CAUTION_MD),
+        new_code_cell("import tempfile\nfrom pathlib import Path\n\nimport inertia_review as ir\n"
+                      "from inertia_review import plots\n\narm = ir.demo_design(\"kestrel_a\")\n"
+                      "space = {\"joints[shoulder].link_length_m\": (0.25, 0.45), \"derived.link_ratio\": (0.6, 1.2)}\n"
+                      "search = ir.DesignSearch(arm, space, [\"max:gci\", \"max:headroom_worst\"],\n"
+                      "                         [\"reachable_fraction >= 0.99\", \"headroom_worst >= 0.2\"],\n"
+                      "                         generations=8, population=12, progress=False)\n"
+                      "search.run(random_state=7);"),
+        new_markdown_cell("## The Pareto set\nEvery proposal meets the constraints (reachable "
+                          "fraction at least 0.99, worst headroom at least 0.2); none is beaten in "
+                          "both GCI and headroom by another evaluated design."),
+        new_code_cell("# NBVAL_CHECK_OUTPUT\nres = search.results_\nfront = res.where(res.pareto, drop=True).to_dataframe()\n"
+                      "cols = list(space) + [\"gci\", \"headroom_worst\", \"moving_mass_kg\"]\n"
+                      "print(f\"{int(res.feasible.sum())} of {res.sizes['evaluation']} evaluated designs feasible\")\n"
+                      "print(front[cols].sort_values(\"gci\").round(4).to_string(index=False))"),
+        new_code_cell("plots.plot_pareto(search, \"gci\", \"headroom_worst\");"),
+        new_markdown_cell("## Which parameters matter\nOne at a time, each parameter from the low "
+                          "to the high end of its range with the others at the design's values."),
+        new_code_cell("# NBVAL_CHECK_OUTPUT\nvary = {\"joints[shoulder].link_length_m\": (0.30, 0.40),\n"
+                      "        \"derived.link_ratio\": (0.8, 1.0), \"tool.payload_kg\": (0.0, 0.5)}\n"
+                      "table = ir.one_at_a_time(arm, vary, \"gci\")\nprint(table.round(4).to_string())"),
+        new_code_cell("plots.plot_tornado(table);"),
+        new_markdown_cell("## A proposal as a design file\nThe best-GCI proposal is written as a "
+                          "design file (here to a temporary folder) and read back."),
+        new_code_cell("# NBVAL_CHECK_OUTPUT\nwith tempfile.TemporaryDirectory() as folder:\n"
+                      "    path = search.save_design(Path(folder) / \"kestrel_a_proposal.toml\")\n"
+                      "    proposal = ir.load_design(path)\n"
+                      "values = ir.parameter_paths(proposal)\n"
+                      "print(proposal.name, {p: round(values[p], 4) for p in space})\n"
+                      "print(\"GCI of the file read back:\", round(float(ir.design_scores(ir.metric_map(proposal, proposal.task))[\"gci\"]), 4))"),
+    ]
+
+
 def main():
     books = {"01_quick_review.ipynb": quick_review(), "02_compare_alternatives.ipynb": compare(),
              "03_sweep_study.ipynb": sweep_study(), "04_baselines.ipynb": baselines(),
-             "05_actuators_and_contact.ipynb": sizing_and_contact()}
+             "05_actuators_and_contact.ipynb": sizing_and_contact(),
+             "07_design_search.ipynb": design_search()}
     for name, cells in books.items():
         nb = new_notebook(cells=cells, metadata={
             "kernelspec": {"display_name": "Python 3", "language": "python", "name": "python3"},

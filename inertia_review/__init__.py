@@ -18,6 +18,17 @@ from .core._api import (
                         principal_masses,
                         torque_headroom,
 )
+from .core._api_stiffness import (
+                        NaturalFrequencies,
+                        PrincipalStiffnesses,
+                        max_tool_speed,
+                        natural_frequencies,
+                        payload_capacity,
+                        principal_stiffnesses,
+                        tool_compliance,
+                        tool_deflection,
+                        tool_stiffness,
+)
 from .core._metrics import PrincipalMasses, TorqueHeadroom
 from .model._arm import Arm
 from .model._builders import planar_chain, yaw_pitch_pitch_arm
@@ -28,8 +39,11 @@ from .model._errors import DesignError
 from .model._materials import (
                         MATERIAL_SOURCES,
                         MATERIALS,
+                        MODULI,
+                        MODULUS_SOURCES,
                         TubeProperties,
                         tube_properties,
+                        tube_section_stiffness,
 )
 from .model._paths import parameter_paths
 from .model._regions import (
@@ -67,11 +81,15 @@ __all__ = [
     "Arm", "load_design", "save_design", "DesignError",
     # builders and link sizing
     "planar_chain", "yaw_pitch_pitch_arm", "tube_properties", "TubeProperties",
-    "MATERIALS", "MATERIAL_SOURCES",
+    "MATERIALS", "MATERIAL_SOURCES", "MODULI", "MODULUS_SOURCES", "tube_section_stiffness",
     # metrics
     "apparent_mass", "principal_masses", "mass_ratio", "mass_along", "isotropy_index",
     "near_singular", "manipulability", "torque_headroom", "acceleration_capability",
     "acceleration_along", "evaluate_metrics",
+    # stiffness, sag, vibration, payload and speed ratings (linear elastic estimates)
+    "tool_compliance", "tool_stiffness", "principal_stiffnesses", "tool_deflection",
+    "natural_frequencies", "payload_capacity", "max_tool_speed",
+    "NaturalFrequencies", "PrincipalStiffnesses",
     # task regions, inverse kinematics, maps, scores and sweeps
     "Rectangle", "Box", "PointSet", "Task", "region_from_dict", "task_from_dict",
     "solve_positions", "PositionSolution", "STATUS",

@@ -1,0 +1,107 @@
+"""Payload capacity and rated tool speed kernels in the batch-last layout (private).
+
+The payload is a point mass m at the tool point (the design's payload inertia is kept as it
+is): M(m) = M_0 + m J_v^T J_v (its kinetic energy m |J_v qd|^2 / 2) and the holding torque
+g(m) = g_0 - m J_v^T g_W, where M_0, g_0 are the arm's without its design payload.
+"""
+
+import itertools
+
+import numpy as np
+
+from . import _dynamics, _metrics
+from ._smallmat import cholesky_forward, matmul, sym_eig, transpose
+
+__all__ = ["payload_capacity", "max_tool_speed", "UNBOUNDED_PAYLOAD_KG", "BISECTION_STEPS"]
+
+#: Payload above which the search stops and reports inf (no rated joint limits it).
+UNBOUNDED_PAYLOAD_KG = 1.0e6
+#: Bisection steps after bracketing: the bracket shrinks to 2^-30 of its first width.
+BISECTION_STEPS = 30
+
+
+def _with_mass(params, terms, mass):
+    """TaskTerms of ``terms`` with the mass matrix replaced (same kinematics)."""
+    jt = terms.task_jacobian
+    y, pivots = cholesky_forward(mass, np.swapaxes(jt, 0, 1))
+    mass_singular = ~np.all(pivots > 0.0, axis=0)
+    y = np.where(mass_singular, 0.0, y)
+    mobility = matmul(transpose(y), y)
+    eigvals, eigvecs = sym_eig(mobility)
+    singular = (eigvals[0] <= _metrics.SINGULAR_RTOL * eigvals[-1]) | mass_singular
+    if params.n < jt.shape[0]:
+        singular = np.ones_like(singular)
+    return terms._replace(mass=mass, mobility=mobility, eigvals=eigvals, eigvecs=eigvecs,
+                          singular=singular)
+
+
+def payload_capacity(params, terms, accel_mps2):
+    """Largest payload (N,) [kg] with every rated joint within its peak torque.
+
+    Demand of joint j at payload m: |g_0j + m p_j| + a ||row_j(J_t^T Lambda(m))|| (the
+    ``torque_headroom`` rule: gravity plus the worst task direction of acceleration a), with
+    p = -J_v^T g_W. For a = 0 the first crossing is closed form per joint,
+    m_j = (sign(p_j) tau_j - g_0j) / p_j; the smallest over joints is the capacity (0 if a joint
+    is over its rating without payload; inf if no rated joint carries payload). For a > 0 it is
+    an upper bound and the capacity is found by bisection between m = 0 and that bound (or a
+    doubled bracket), ``BISECTION_STEPS`` steps for all configurations at once. Payloads below
+    the result are not each checked: where the demand is not monotone in m the result is a
+    payload at which a joint reaches its rating.
+    """
+    jv = terms.jacobian[:3]
+    rated = np.isfinite(params.peak_torque)
+    peak = np.where(rated, params.peak_torque, np.inf)[:, None]
+    per_kg = -np.einsum("rjN,r->jN", jv, params.gravity)           # (n, N)
+    hold0 = _dynamics.gravity_torque(params, terms.frames) - params.payload_mass * per_kg
+    jtj = matmul(transpose(jv), jv)
+    mass0 = terms.mass - params.payload_mass * jtj
+    with np.errstate(divide="ignore", invalid="ignore"):
+        cross_at = (np.sign(per_kg) * peak - hold0) / per_kg
+    cross_at = np.where((per_kg != 0.0) & rated[:, None], cross_at, np.inf)
+    cross_at = np.where(np.abs(hold0) > peak, 0.0, np.maximum(cross_at, 0.0))
+    static = np.min(cross_at, axis=0)                               # (N,)
+    if accel_mps2 <= 0.0:
+        return static
+
+    def feasible(m):
+        trial = _with_mass(params, terms, mass0 + m * jtj)
+        dyn = _metrics._dynamic_row_norms(params, trial)
+        demand = np.abs(hold0 + m * per_kg) + accel_mps2 * dyn
+        return np.all((demand <= peak) | ~rated[:, None], axis=0)
+
+    low = np.zeros_like(static)
+    ok0 = feasible(low)
+    high = np.where(np.isfinite(static), static, 1.0)
+    open_top = ~np.isfinite(static)
+    while np.any(open_top):                      # double until infeasible or unbounded
+        still = feasible(high) & open_top
+        low = np.where(still, high, low)
+        high = np.where(still, 2.0 * high, high)
+        open_top = still & (high < UNBOUNDED_PAYLOAD_KG)
+    unbounded = high >= UNBOUNDED_PAYLOAD_KG
+    for _ in range(BISECTION_STEPS):
+        mid = 0.5 * (low + high)
+        good = feasible(mid)
+        low = np.where(good, mid, low)
+        high = np.where(good, high, mid)
+    return np.where(~ok0, 0.0, np.where(unbounded, np.inf, low))
+
+
+def max_tool_speed(params, terms):
+    """Largest tool-point speed (N,) [m/s] in the task with every joint at its rated speed.
+
+    Joint speed limits w_j = rated motor speed / gear ratio [rad/s]; the speed ||J_t qd|| is
+    convex in qd, so its maximum over the box |qd_j| <= w_j is at a vertex: the largest over
+    the 2^n sign patterns (common practice, no source). NaN if a joint has no rating.
+    """
+    limit = params.rated_speed / params.gear_ratio
+    jt = terms.task_jacobian
+    best = np.zeros(jt.shape[-1])
+    if not np.all(np.isfinite(limit)):
+        return np.full(jt.shape[-1], np.nan)
+    scaled = jt * limit[None, :, None]
+    for signs in itertools.product((1.0, -1.0), repeat=params.n - 1):
+        s = np.array((1.0,) + signs)
+        v = np.einsum("knN,n->kN", scaled, s)
+        best = np.maximum(best, np.sqrt(np.sum(v * v, axis=0)))
+    return best

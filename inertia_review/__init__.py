@@ -67,6 +67,7 @@ from .studies._contact_model import (
                         transient_speed_limit,
 )
 from .studies._cycle_review import CycleTorques, cycle_torques
+from .studies._datasheet import Datasheet, datasheet
 from .studies._ik import STATUS, PositionSolution, solve_positions
 from .studies._map_io import load_results, save_results
 from .studies._maps import METRIC_ATTRS, metric_map
@@ -88,7 +89,7 @@ __all__ = [
     "acceleration_along", "evaluate_metrics",
     # stiffness, sag, vibration, payload and speed ratings (linear elastic estimates)
     "tool_compliance", "tool_stiffness", "principal_stiffnesses", "tool_deflection",
-    "natural_frequencies", "payload_capacity", "max_tool_speed",
+    "natural_frequencies", "payload_capacity", "max_tool_speed", "datasheet", "Datasheet",
     "NaturalFrequencies", "PrincipalStiffnesses",
     # task regions, inverse kinematics, maps, scores and sweeps
     "Rectangle", "Box", "PointSet", "Task", "region_from_dict", "task_from_dict",

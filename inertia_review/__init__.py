@@ -54,7 +54,7 @@ from .model._regions import (
                         region_from_dict,
                         task_from_dict,
 )
-from .review._baselines import baseline_table
+from .review._baselines import baseline_table, scores_view
 from .studies._body_regions import BodyRegion, BodyRegions, load_body_regions
 from .studies._contact_maps import SpeedCheck, check_speeds, contact_speed_map
 from .studies._contact_model import (
@@ -68,12 +68,14 @@ from .studies._contact_model import (
 )
 from .studies._cycle_review import CycleTorques, cycle_torques
 from .studies._datasheet import Datasheet, datasheet
-from .studies._ik import STATUS, PositionSolution, solve_positions
+from .studies._ik import SOLVED, STATUS, PositionSolution, solve_positions
 from .studies._map_io import load_results, save_results
 from .studies._maps import METRIC_ATTRS, metric_map
 from .studies._profiles import MotionProfile, s_curve_profile, trapezoidal_profile
 from .studies._scores import SCORE_COLUMNS, design_scores, scores_table
+from .studies._search import DesignSearch, pareto_mask
 from .studies._sweeps import Sweep
+from .studies._variants import score_variants
 
 __version__ = "0.1.0"
 
@@ -93,9 +95,11 @@ __all__ = [
     "NaturalFrequencies", "PrincipalStiffnesses",
     # task regions, inverse kinematics, maps, scores and sweeps
     "Rectangle", "Box", "PointSet", "Task", "region_from_dict", "task_from_dict",
-    "solve_positions", "PositionSolution", "STATUS",
+    "solve_positions", "PositionSolution", "STATUS", "SOLVED",
     "metric_map", "METRIC_ATTRS", "design_scores", "scores_table", "SCORE_COLUMNS",
-    "Sweep", "parameter_paths", "save_results", "load_results", "baseline_table",
+    "Sweep", "parameter_paths", "save_results", "load_results", "baseline_table", "scores_view",
+    # design search (batched variants, optimisation under constraints, Pareto sets)
+    "DesignSearch", "pareto_mask", "score_variants",
     # contact speeds beside people (transient-contact model, ISO/TS 15066:2016 Annex A)
     "load_body_regions", "BodyRegion", "BodyRegions", "reduced_mass", "transient_energy_limit",
     "transient_speed_limit", "simplified_effective_mass", "contact_speed", "permissible_speed",

@@ -9,16 +9,19 @@ Outside checks used here:
 - forward kinematics of ``ir.planar_chain`` arms written by hand from the builder's
   documented layout (mount rpy = [90 - tilt, 0, yaw], R = Rz(yaw) Ry(pitch) Rx(roll) per
   arm-model.md; links along the local x axis; joint axes along local z);
-- the elbow's height above the line from joint 1 to the tool, measured here from
-  ``arm.link_frames`` (joint origins), with "up" = -gravity (the documented posture rule);
+- the elbow's side (the documented posture rule: the sense of the elbow's bend measured
+  from the shoulder, in the arm's own frame), written out again from ``arm.link_frames``
+  and pinned by hand to joint coordinates: elbow up is q2 < 0 on ``planar_chain`` arms and
+  q3 < 0 on the yaw-pitch-pitch demo arm, whatever the mount (plane geometry of the
+  two-link triangle, common practice, no source);
 - reach limits l1 + l2 and |l1 - l2| of a two-link arm (triangle inequality).
 """
 
+import tomllib
 from pathlib import Path
 
 import numpy as np
 import pytest
-import tomllib
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
@@ -72,18 +75,31 @@ def wrap(a):
     return np.arctan2(np.sin(a), np.cos(a))
 
 
-def elbow_height(arm, q, elbow_index):
-    """Height (along -gravity) of joint ``elbow_index``'s origin above the line from
-    joint 1's origin to the tool point, from ``arm.link_frames``."""
-    origins, _ = arm.link_frames(q)
-    tool = arm.tool_position(q)
-    base = origins[..., 0, :]
-    line = tool - base
-    line = line / np.linalg.norm(line, axis=-1, keepdims=True)
-    rel = origins[..., elbow_index, :] - base
-    off = rel - np.sum(rel * line, axis=-1, keepdims=True) * line
-    up = -arm.gravity / np.linalg.norm(arm.gravity)
-    return off @ up
+def elbow_side(arm, q, elbow_index):
+    """The documented posture value, > 0 for 'elbow_up', written out again from
+    ``arm.link_frames``: -sign * det[p_e - p_s, t - p_e, a_e] / (|p_e - p_s| |t - p_e|), with
+    the shoulder s = joint e - 1 and sign = the side of d_0 . (z_B x a_e) at q = 0 (z_B the
+    base's z axis in W, d_0 the shoulder-to-tool reach normal to a_e), +1 where that is
+    (nearly) zero. Pinned to hand geometry by ``test_posture_value_by_hand``."""
+    design = arm.to_dict()
+    local_axis = np.asarray(design["joints"][elbow_index]["axis"], float)
+    local_axis = local_axis / np.linalg.norm(local_axis)
+
+    def parts(qq):
+        origins, rot = arm.link_frames(qq)
+        axis = rot[..., elbow_index, :, :] @ local_axis
+        return origins[..., elbow_index - 1, :], origins[..., elbow_index, :], axis
+
+    s0, _, a0 = parts(np.zeros(arm.dof))
+    reach = arm.tool_position(np.zeros(arm.dof)) - s0
+    reach = reach - (reach @ a0) * a0
+    side = reach @ np.cross(rpy_matrix(design["mount"]["rpy_deg"])[:, 2], a0)
+    sign = np.sign(side) if abs(side) > 0.1 * np.linalg.norm(reach) else 1.0
+    q = np.asarray(q, float)
+    s, e, a = parts(q)
+    upper, fore = e - s, arm.tool_position(q) - e
+    det = np.sum(np.cross(upper, fore) * a, axis=-1)
+    return -sign * det / (np.linalg.norm(upper, axis=-1) * np.linalg.norm(fore, axis=-1))
 
 
 def assert_within_limits(arm, q):
@@ -98,6 +114,26 @@ def kestrel(name="kestrel_a", **mount):
     if mount:
         d["name"] = f"{name}_remounted"
     return ir.Arm.from_dict(d)
+
+
+def test_posture_value_by_hand():
+    # planar chain (joint axes +z_local, links along x_local): det[l1 u1, l2 u2, z] =
+    # l1 l2 sin q2, so elbow up (value > 0) is sin q2 < 0, for every plane tilt and yaw
+    rng = np.random.default_rng(1)
+    q = rng.uniform(-3.0, 3.0, (50, 2))
+    q = q[np.abs(np.sin(q[:, 1])) > 0.05]
+    for tilt, yaw in PLANES:
+        arm = ir.planar_chain([0.7, 0.5], [1.0, 0.5], plane_tilt_deg=tilt, base_yaw_deg=yaw)
+        assert np.array_equal(np.sign(elbow_side(arm, q, 1)), -np.sign(np.sin(q[:, 1])))
+    # kestrel_a (shoulder and elbow turn about -y_local, base z up, zero pose reaching +x):
+    # value = -sin q3 exactly, on any mount
+    q = rng.uniform([-2.5, -0.1, -2.5], [2.5, 3.2, 2.5], (50, 3))
+    for mount in ({}, {"rpy_deg": [0.0, -45.0, 0.0]}, {"rpy_deg": [50.0, 30.0, -20.0]}):
+        arm = kestrel(**mount)
+        assert np.allclose(elbow_side(arm, q, 2), -np.sin(q[:, 2]), rtol=0, atol=1e-12)
+        sol = ir.solve_positions(arm, arm.tool_position(q[:10]), posture="elbow_up")
+        ok = sol.status == OK
+        assert ok.sum() >= 5 and np.all(sol.q[ok, 2] <= 1e-9)
 
 
 # ---------------------------------------------------------------------------
@@ -121,7 +157,7 @@ def test_planar_two_link_both_branches(tilt, yaw, method):
     x, y = target @ ex, target @ ey
     branches = law_of_cosines(l1, l2, x, y)
     # keep targets whose two elbows are clearly on opposite sides (not a vertical line)
-    h = [elbow_height(arm, b, 1) for b in branches]
+    h = [elbow_side(arm, b, 1) for b in branches]
     keep = (np.abs(h[0]) > 1e-3) & (np.abs(h[1]) > 1e-3)
     assert keep.sum() >= 20
     target, branches = target[keep], [b[keep] for b in branches]
@@ -136,7 +172,7 @@ def test_planar_two_link_both_branches(tilt, yaw, method):
         # the law-of-cosines branch whose elbow is on the requested side
         expected = np.where((sign * h[0] > 0)[:, None], branches[0], branches[1])
         assert np.max(np.abs(wrap(sol.q - expected))) < 1e-6
-        assert np.all(sign * elbow_height(arm, sol.q, 1) > 0)
+        assert np.all(sign * elbow_side(arm, sol.q, 1) > 0)
 
 
 @FAST
@@ -149,7 +185,7 @@ def test_closed_form_round_trip_random_chains(l1, l2, tilt, yaw, q1, q2, flip):
     target = arm.tool_position(q)
     ex, ey, _ = chain_plane(tilt, yaw)
     branches = law_of_cosines(l1, l2, target @ ex, target @ ey)
-    heights = [float(elbow_height(arm, b, 1)) for b in branches]
+    heights = [float(elbow_side(arm, b, 1)) for b in branches]
     assume(min(abs(h) for h in heights) > 1e-4 * (l1 + l2))
     up = ir.solve_positions(arm, target, posture="elbow_up")
     down = ir.solve_positions(arm, target, posture="elbow_down")
@@ -157,7 +193,7 @@ def test_closed_form_round_trip_random_chains(l1, l2, tilt, yaw, q1, q2, flip):
         assert sol.status == OK
         assert np.max(np.abs(arm.tool_position(sol.q) - target)) <= ROUND_TRIP_M
         assert_within_limits(arm, sol.q)
-    assert elbow_height(arm, up.q, 1) > 0 > elbow_height(arm, down.q, 1)
+    assert elbow_side(arm, up.q, 1) > 0 > elbow_side(arm, down.q, 1)
     # the two answers are the two law-of-cosines branches
     got = sorted([up.q, down.q], key=lambda v: -v[1])
     assert np.max(np.abs(wrap(got[0] - branches[0]))) < 1e-7
@@ -220,7 +256,7 @@ def test_offset_design_both_branches(offset_arm, method):
     target = arm.tool_position(q_true)
     up = ir.solve_positions(arm, target, posture="elbow_up", method=method)
     down = ir.solve_positions(arm, target, posture="elbow_down", method=method)
-    hu, hd = elbow_height(arm, up.q, 1), elbow_height(arm, down.q, 1)
+    hu, hd = elbow_side(arm, up.q, 1), elbow_side(arm, down.q, 1)
     # skip targets where one branch is (nearly) on the line: their posture is ambiguous
     clear = np.isfinite(hu) & np.isfinite(hd)
     clear &= (up.status == OK) & (down.status == OK)
@@ -345,7 +381,7 @@ def test_posture_outside_limits_is_unavailable(method):
     arm = ir.Arm.from_dict(d)
     q = np.array([0.4, 0.9])                        # q2 > 0: elbow below the line (tilt 0)
     target = arm.tool_position(q)
-    assert elbow_height(arm, q, 1) < 0
+    assert elbow_side(arm, q, 1) < 0
     up = ir.solve_positions(arm, target, posture="elbow_up", method=method)
     assert up.status in (BEYOND_LIMITS, NO_POSTURE) and np.all(np.isnan(up.q))
     down = ir.solve_positions(arm, target, posture="elbow_down", method=method)
@@ -470,7 +506,7 @@ def _kestrel_samples(arm, count, seed):
     lim = arm.joint_limits
     q = lim[:, 0] + (lim[:, 1] - lim[:, 0]) * rng.random((count, 3))
     q = q[np.abs(np.sin(q[:, 2])) > 0.25]                   # away from the stretched elbow
-    h = elbow_height(arm, q, 2)
+    h = elbow_side(arm, q, 2)
     return q[np.abs(h) > 2e-3], h[np.abs(h) > 2e-3]
 
 
@@ -491,7 +527,7 @@ def test_kestrel_numeric_round_trip(mount):
         assert np.all(sol.status == OK), sol.status
         assert np.max(np.abs(arm.tool_position(sol.q) - target[side])) <= ROUND_TRIP_M
         assert_within_limits(arm, sol.q)
-        hh = elbow_height(arm, sol.q, 2)
+        hh = elbow_side(arm, sol.q, 2)
         assert np.all(hh > -1e-12) if posture == "elbow_up" else np.all(hh < 1e-12)
 
 
@@ -511,7 +547,7 @@ def test_kestrel_branches_differ():
                                 indexing="ij"), -1).reshape(-1, 3)
     mirror = _kestrel_mirror(arm, grid)
     assert np.max(np.abs(arm.tool_position(mirror) - arm.tool_position(grid))) < 1e-12
-    h, hm = elbow_height(arm, grid, 2), elbow_height(arm, mirror, 2)
+    h, hm = elbow_side(arm, grid, 2), elbow_side(arm, mirror, 2)
     inside = np.all((mirror >= lim[:, 0]) & (mirror <= lim[:, 1]), axis=-1)
     both = inside & (h * hm < 0) & (np.abs(h) > 2e-3) & (np.abs(hm) > 2e-3)
     assert both.sum() >= 4
@@ -522,8 +558,8 @@ def test_kestrel_branches_differ():
     for sol in (up, down):
         assert np.max(np.abs(arm.tool_position(sol.q) - target)) <= ROUND_TRIP_M
         assert_within_limits(arm, sol.q)
-    assert np.all(elbow_height(arm, up.q, 2) > 0)
-    assert np.all(elbow_height(arm, down.q, 2) < 0)
+    assert np.all(elbow_side(arm, up.q, 2) > 0)
+    assert np.all(elbow_side(arm, down.q, 2) < 0)
     assert np.all(np.max(np.abs(wrap(up.q - down.q)), axis=-1) > 1e-2)
 
 

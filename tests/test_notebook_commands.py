@@ -305,3 +305,39 @@ def test_summary_reports_a_broken_design_and_fails(tmp_path, capsys):
     assert main(["summary", str(broken), "--samples", "50"]) == 1
     captured = capsys.readouterr()
     assert "joints[0].link.mass_kg" in captured.err
+
+
+# --------------------------------------------------------------------------
+# the compact scores table for reviewers
+# --------------------------------------------------------------------------
+def test_scores_view_one_row_per_design_units_and_best_marked(kestrel_a, coarse_task):
+    import numpy as np
+
+    other = ir.load_design(DESIGNS / "kestrel_b.toml")
+    maps = [ir.metric_map(a, coarse_task) for a in (kestrel_a, other)]
+    view = ir.scores_view(maps)
+    table = ir.scores_table(maps)
+    assert list(view.data.index) == ["kestrel_a", "kestrel_b"]
+    assert list(view.data.columns) == list(ir.SCORE_COLUMNS)
+    html = view.to_html()
+    for header in ("gci [-]", "accel capability min [m/s²]", "moving mass [kg]"):
+        assert header in html, header
+    # the best design of each score, from the scores themselves (higher is better except
+    # moving mass, as the board's rule says); marked bold with a star
+    for score, higher in (("gci", True), ("headroom_worst", True), ("moving_mass_kg", False)):
+        values = table[score]
+        expected = values.idxmax() if higher else values.idxmin()
+        assert view.best_[score] == [expected], score
+    assert "headroom_worst_joint" not in view.best_
+    # shown numbers are the baseline table's fixed-precision cells
+    cells = _table_cells(ir.baseline_table(maps))
+    for (design, score), text in cells.items():
+        if score in view.best_ and design in view.best_[score]:
+            text = f"★ {text}"
+        assert f">{text}</td>" in html, (design, score, text)
+    assert html.count(">★ ") == sum(len(v) for v in view.best_.values())
+    assert "font-weight: bold" in html and "not a validation" in html
+    assert ir.scores_view(maps).to_html() == html, "same HTML on every run"
+    with pytest.raises(KeyError, match="No score named 'speed'"):
+        ir.scores_view(maps, columns=["speed"])
+    assert np.isfinite(table["gci"]).all()

@@ -28,6 +28,7 @@ figure and must not call ``plt.show()``.
 
 import subprocess
 import sys
+from pathlib import Path
 from concurrent.futures import ThreadPoolExecutor
 
 import numpy as np
@@ -136,7 +137,8 @@ def _grid(ds, name, *trailing):
 
 
 def _ok(ds):
-    return _grid(ds, "status") == 0
+    # solved points: 'ok' and 'branch_seam' (solved, next to a jump of the solution)
+    return np.isin(_grid(ds, "status"), ir.SOLVED)
 
 
 def _n_colorbars(fig):
@@ -362,6 +364,49 @@ def test_drawing_restores_rcparams(plt, irp, planar_map):
         irp.MassEllipseDisplay.from_arm(case_a_arm(), [0.0, 1.0])
         after = snapshot()
     assert {k for k in before if before[k] != after[k]} == set()
+
+
+def test_style_context_keeps_the_interactive_mode(plt, irp):
+    # Under a notebook's inline backend the first figure of a session makes IPython switch
+    # interactive mode on; a plain rc_context would switch it off again on exit, and no
+    # later figure would be shown. The look is restored, the interactive mode is kept.
+    import matplotlib as mpl
+
+    was = mpl.is_interactive()
+    try:
+        for start in (False, True):
+            mpl.interactive(start)
+            with irp.plot_style():
+                assert mpl.rcParams["font.size"] == irp._style.RC["font.size"]
+                mpl.interactive(not start)          # what the backend does while inside
+            assert mpl.is_interactive() is (not start)
+            assert mpl.rcParams["font.size"] == mpl.rcParamsDefault["font.size"]
+        with pytest.raises(RuntimeError), irp.plot_style():     # restored on errors too
+            raise RuntimeError("drawing failed")
+        assert mpl.rcParams["font.size"] == mpl.rcParamsDefault["font.size"]
+    finally:
+        mpl.interactive(was)
+
+
+def test_cycle_torques_figure_through_pyplot_with_the_caution(plt, irp):
+    from inertia_review.studies._cautions import TORQUE_CAUTION
+
+    arm = ir.load_design(Path(__file__).resolve().parents[1] / "designs" / "kestrel_a.toml")
+    result = ir.cycle_torques(arm, ir.design_cycles(arm)[0], sample_rate_hz=50.0)
+    art = irp.plot_cycle_torques(result)
+    assert plt.get_fignums() == [art.figure.number], "a new figure is a pyplot figure"
+    assert " ".join(art.caution.get_text().split()) == " ".join(TORQUE_CAUTION.split())
+    for j, ax in enumerate(art.axes):     # the drawn torque is the result's, per joint
+        assert_allclose(art.lines[j].get_ydata(), result.tau[:, j])
+    assert art.axes[-1].get_xlabel() == "time [s]"
+    # into given Axes: no new figure, the caution under the last panel
+    fig, axes = plt.subplots(len(art.axes), 1)
+    given = irp.plot_cycle_torques(result, axes=axes)
+    assert given.figure is fig and given.caution is not None
+    assert len(plt.get_fignums()) == 2
+    assert irp.plot_cycle_torques(result, axes=axes, caution=False).caution is None
+    with pytest.raises(ValueError, match="expected 3 Axes"):
+        irp.plot_cycle_torques(result, axes=axes[:2])
 
 
 # --------------------------------------------------------------------------
@@ -805,3 +850,98 @@ def test_new_figures_have_no_overlapping_text(irp, planar, planar_map, kestrel):
     _assert_readable(ax.figure, {"title": ax.title, "xlabel": ax.xaxis.label,
                                  "ylabel": ax.yaxis.label,
                                  "cbar": art.colorbar.ax.yaxis.label, "legend": art.legend})
+
+
+# --------------------------------------------------------------------------
+# screens a review meeting looks at
+# --------------------------------------------------------------------------
+def _overlaps(box_a, box_b, tol=1.0):
+    return (min(box_a.x1, box_b.x1) - max(box_a.x0, box_b.x0) > tol and
+            min(box_a.y1, box_b.y1) - max(box_a.y0, box_b.y0) > tol)
+
+
+@pytest.mark.parametrize("where", ["own", "axes", "figure"])
+def test_torque_bar_labels_clear_of_the_legend(plt, irp, kestrel, where):
+    # every per-joint label ("18% of peak ...") stays readable: its box overlaps neither
+    # the legend nor the caution, in a new figure, in a given Axes and in a given figure
+    from inertia_review.widgets._render import new_figure
+
+    arm = kestrel[0][0]
+    q = np.radians([7.5, 45.0, -108.1])
+    if where == "own":
+        bars = irp.TorqueBarsDisplay.from_arm(arm, q, 2.0)
+    elif where == "axes":
+        fig, ax = plt.subplots(figsize=(8.0, 4.0), layout="constrained")
+        bars = irp.TorqueBarsDisplay.from_arm(arm, q, 2.0, ax=ax)
+    else:
+        fig = new_figure(6.0, 4.2, layout=None)            # as the widget's probe does
+        bars = irp.TorqueBarsDisplay.from_arm(arm, q, 2.0, figure=fig)
+        assert bars.figure_ is fig and plt.get_fignums() == []
+    fig = bars.figure_
+    fig.canvas.draw()
+    renderer = fig.canvas.get_renderer()
+    legend = bars.legend_.get_window_extent(renderer)
+    caution = bars.caution_.get_window_extent(renderer)
+    assert len(bars.labels_) == 3
+    for label in bars.labels_:
+        box = label.get_window_extent(renderer)
+        assert not _overlaps(box, legend), f"label {label.get_text()!r} under the legend"
+        assert not _overlaps(box, caution), f"label {label.get_text()!r} under the caution"
+        assert fig.bbox.x0 - 1 <= box.x0 and box.x1 <= fig.bbox.x1 + 1
+    frame = fig.bbox
+    assert caution.y0 >= frame.y0 - 1 and caution.x1 <= frame.x1 + 1, "caution cut off"
+
+
+def test_mass_ellipse_view_fits_the_reach_and_the_region(plt, irp, kestrel):
+    # the view holds the arm, the ellipse and the task region, and is not much larger
+    # than the arm's reach at q (the old fixed view was about 2.3 reaches per side)
+    arm = kestrel[0][0]
+    q = np.radians([7.5, 45.0, -108.1])
+    disp = irp.MassEllipseDisplay.from_arm(arm, q)
+    origins, _ = arm.link_frames(q)
+    points = 1000.0 * np.vstack([origins, arm.tool_position(q)])[:, [0, 2]]
+    reach = float(np.sum(np.linalg.norm(np.diff(points, axis=0), axis=1)))
+    (x0, x1), (y0, y1) = disp.ax_.get_xlim(), disp.ax_.get_ylim()
+    assert max(x1 - x0, y1 - y0) <= 1.3 * reach
+    region = arm.task.region                   # world x-z rectangle of the design's task
+    cx, cz = 1000.0 * region.center_m[0], 1000.0 * region.center_m[2]
+    su, sv = 500.0 * np.asarray(region.size_m)
+    corners = np.array([[cx - su, cz - sv], [cx + su, cz + sv]])
+    inside = np.vstack([points, corners])
+    assert np.all(inside[:, 0] >= x0) and np.all(inside[:, 0] <= x1)
+    assert np.all(inside[:, 1] >= y0) and np.all(inside[:, 1] <= y1)
+    assert_allclose(np.sort(disp.region_.get_xdata()[:-1]), np.sort(
+        [cx - su, cx + su, cx + su, cx - su]), atol=1e-6)
+    half = 0.5 * max(disp.width_mm, disp.height_mm)
+    c = disp.ellipse_.center
+    assert x0 <= c[0] - half and c[0] + half <= x1 and y0 <= c[1] - half and c[1] + half <= y1
+    # an update widens the view if needed and never narrows it
+    limits = (x0, x1, y0, y1)
+    disp.update(np.radians([0.0, 10.0, -20.0]))
+    (a0, a1), (b0, b1) = disp.ax_.get_xlim(), disp.ax_.get_ylim()
+    assert a0 <= limits[0] and a1 >= limits[1] and b0 <= limits[2] and b1 >= limits[3]
+    tip = disp.arm_line_.get_xydata()[-1]
+    assert a0 <= tip[0] <= a1 and b0 <= tip[1] <= b1
+    # without a region, the view fits the arm and the ellipse alone
+    bare = irp.MassEllipseDisplay.from_arm(arm, q, region=None)
+    assert bare.region_ is None
+    with pytest.raises(ValueError, match="`region`"):
+        irp.MassEllipseDisplay.from_arm(arm, q, region="elsewhere")
+
+
+@pytest.mark.parametrize("ncols", [None, 2])
+def test_small_multiples_every_panel_keeps_its_x_ticks_and_label(plt, irp, kestrel, ncols):
+    _, maps = kestrel
+    art = irp.plot_small_multiples(maps, "min_margin", ncols=ncols)
+    fig = art.figure
+    fig.canvas.draw()
+    renderer = fig.canvas.get_renderer()
+    for i, ax in enumerate(art.axes):
+        shown = [t for t in ax.get_xticklabels() if t.get_visible() and t.get_text()]
+        assert len(shown) >= 2, f"panel {i} lost its x tick labels"
+        assert ax.get_xlabel() == "x [mm]" and ax.xaxis.label.get_visible()
+        label_box = ax.xaxis.label.get_window_extent(renderer)
+        assert label_box.y0 >= fig.bbox.y0 - 1, f"panel {i}: x label cut off"
+        # the y axis is shared along a row: labelled on the first panel of the row
+        first = i % (ncols or len(maps)) == 0
+        assert (ax.get_ylabel() == "height z [mm]") is first

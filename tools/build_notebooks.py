@@ -24,6 +24,10 @@ SCENARIO_MD = (
     "describe a real product.*")
 
 
+#: a checked record cell shown collapsed (JupyterLab and the classic notebook honour it)
+COLLAPSED = {"collapsed": True, "jupyter": {"outputs_hidden": True}}
+
+
 def quick_review():
     return [
         new_markdown_cell("# Quick review: kestrel_a\n\n" + SCENARIO_MD + "\n\n"
@@ -73,8 +77,13 @@ def compare():
                       "names = [\"kestrel_a\", \"kestrel_b\", \"kestrel_c\", \"kestrel_wall\"]\n"
                       "arms = [ir.load_design(f\"../designs/{n}.toml\") for n in names]\n"
                       "task = arms[0].task\nmaps = [ir.metric_map(a, task) for a in arms]"),
-        new_code_cell("# NBVAL_CHECK_OUTPUT\nprint(ir.baseline_table(maps))"),
-        new_code_cell("ir.scores_table(maps).round(4)"),
+        new_markdown_cell("## Scores\nOne row per design, one column per score (units in the "
+                          "header); the best value of each score is bold with a ★."),
+        new_code_cell("ir.scores_view(maps)"),
+        new_markdown_cell("The accepted baseline of these scores, as fixed-precision text that "
+                          "nbval compares on every run (collapsed: expand to read)."),
+        new_code_cell("# NBVAL_CHECK_OUTPUT\nprint(ir.baseline_table(maps))",
+                      metadata=COLLAPSED),
         new_markdown_cell("## Side by side, one colour scale"),
         new_code_cell("plots.plot_small_multiples(maps, \"mass_ratio\");"),
         new_code_cell("plots.plot_small_multiples(maps, \"min_margin\");"),

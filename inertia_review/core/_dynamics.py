@@ -8,7 +8,7 @@ Arrays carry the batch on their last axis.
 import numpy as np
 
 from ._kinematics import world_inertia
-from ._smallmat import cross, dot, matmul, matvec
+from ._smallmat import cross, dot, lift, matmul, matvec
 
 __all__ = ["mass_matrix", "gravity_torque", "inverse_dynamics"]
 
@@ -32,22 +32,24 @@ def mass_matrix(params, frames, inertia_world=None):
     """
     if inertia_world is None:
         inertia_world = world_inertia(params, frames)
-    m = params.body_mass[:, None]                          # (n, 1)
+    m = lift(params.body_mass, 1)                          # (n, 1) or (n, N)
     c = frames.com                                         # (n, 3, N)
     c2 = np.sum(c * c, axis=1)                             # (n, N)
     inertia_origin = (inertia_world
                       + (m * c2)[:, None, None, :] * np.eye(3)[None, :, :, None]
-                      - m[:, :, None, None] * c[:, :, None, :] * c[:, None, :, :])
-    m_comp = np.cumsum(params.body_mass[::-1])[::-1][:, None]     # (n, 1)
-    h_comp = _suffix_sum(m[:, :, None] * c)                # (n, 3, N)
+                      - m[:, None, None, :] * c[:, :, None, :] * c[:, None, :, :])
+    m_comp = np.cumsum(m[::-1], axis=0)[::-1]              # (n, 1) or (n, N)
+    h_comp = _suffix_sum(m[:, None, :] * c)                # (n, 3, N)
     i_comp = _suffix_sum(inertia_origin)                   # (n, 3, 3, N)
     z = frames.axis
     v = cross(frames.origin, z)
     f_ang = matvec(i_comp, z) + cross(h_comp, v)
-    f_lin = cross(z, h_comp) + m_comp[:, :, None] * v
+    f_lin = cross(z, h_comp) + m_comp[:, None, :] * v
     p = matmul(z, np.swapaxes(f_ang, 0, 1)) + matmul(v, np.swapaxes(f_lin, 0, 1))
     upper = np.triu(np.ones((params.n, params.n), dtype=bool))[:, :, None]
     mass = np.where(upper, p, np.swapaxes(p, 0, 1))
+    if params.rotor_inertia.ndim == 2:                     # one arm per configuration
+        return mass + np.eye(params.n)[:, :, None] * params.rotor_inertia[None]
     return mass + np.diag(params.rotor_inertia)[:, :, None]
 
 
@@ -56,8 +58,8 @@ def gravity_torque(params, frames):
 
     g_j = -g . (z_j x (h^C_j - m^C_j o_j)): minus the gradient of the potential -sum m g.c.
     """
-    m = params.body_mass[:, None, None]
-    m_comp = np.cumsum(params.body_mass[::-1])[::-1][:, None, None]
+    m = lift(params.body_mass, 1)[:, None, :]
+    m_comp = np.cumsum(m[::-1], axis=0)[::-1]
     h_comp = _suffix_sum(m * frames.com)
     moment = cross(frames.axis, h_comp - m_comp * frames.origin)
     g = params.gravity

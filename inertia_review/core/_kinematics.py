@@ -10,7 +10,7 @@ from typing import NamedTuple
 
 import numpy as np
 
-from ._smallmat import const_matmul, const_matvec, cross, matmul
+from ._smallmat import cross, lift, matmul, pmatmul, pmatvec
 
 __all__ = ["Frames", "forward", "jacobian", "world_inertia"]
 
@@ -30,30 +30,34 @@ def forward(params, q):
 
     Joint i: T = Trans(xyz) Rot(rpy) Rot(axis, q_i), with Rot(axis, q) from Rodrigues'
     formula I + sin q [a]x + (1 - cos q) [a]x^2.
+
+    ``params`` holds one arm (arrays as in ``ArmParams``) or one arm per configuration
+    (every array with a trailing batch axis N, see ``studies._variants``).
     """
     count = q.shape[-1]
     s, c = np.sin(q), np.cos(q)
     rotations, origins, axes = [], [], []
     # joint 1's frame does not depend on q: keep it constant, then broadcast
-    base = params.mount_rotation @ params.joint_rotation[0]
-    origin = params.mount_rotation @ params.joint_position[0]
-    axis = base @ params.axis[0]
-    rot = (base[:, :, None] + (base @ params.axis_skew[0])[:, :, None] * s[0]
-           + (base @ params.axis_skew2[0])[:, :, None] * (1.0 - c[0]))
+    base = pmatmul(params.mount_rotation, params.joint_rotation[0])
+    origin = pmatvec(params.mount_rotation, params.joint_position[0])
+    axis = pmatvec(base, params.axis[0])
+    rot = (lift(base, 2) + lift(pmatmul(base, params.axis_skew[0]), 2) * s[0]
+           + lift(pmatmul(base, params.axis_skew2[0]), 2) * (1.0 - c[0]))
     rotations.append(rot)
-    origins.append(np.broadcast_to(origin[:, None], (3, count)))
-    axes.append(np.broadcast_to(axis[:, None], (3, count)))
+    origins.append(np.broadcast_to(lift(origin, 1), (3, count)))
+    axes.append(np.broadcast_to(lift(axis, 1), (3, count)))
     for i in range(1, params.n):
         prev = rotations[-1]
-        origins.append(origins[-1] + const_matvec(prev, params.joint_position[i]))
-        base = const_matmul(prev, params.joint_rotation[i])
-        axes.append(const_matvec(base, params.axis[i]))
-        rotations.append(base + const_matmul(base, params.axis_skew[i]) * s[i]
-                         + const_matmul(base, params.axis_skew2[i]) * (1.0 - c[i]))
+        origins.append(origins[-1] + pmatvec(prev, params.joint_position[i]))
+        base = pmatmul(prev, params.joint_rotation[i])
+        axes.append(pmatvec(base, params.axis[i]))
+        rotations.append(base + pmatmul(base, params.axis_skew[i]) * s[i]
+                         + pmatmul(base, params.axis_skew2[i]) * (1.0 - c[i]))
     rotation = np.stack(rotations)
     origin = np.stack(origins)
-    com = origin + sum(rotation[:, :, j, :] * params.body_com[:, None, j, None] for j in range(3))
-    tool = origin[-1] + const_matvec(rotation[-1], params.tool_position)
+    body_com = lift(params.body_com, 2)
+    com = origin + sum(rotation[:, :, j, :] * body_com[:, None, j] for j in range(3))
+    tool = origin[-1] + pmatvec(rotation[-1], params.tool_position)
     return Frames(rotation, origin, np.stack(axes), com, tool)
 
 
@@ -69,6 +73,6 @@ def jacobian(frames):
 def world_inertia(params, frames):
     """Body inertia tensors about their COMs, in W: R I R^T, (n, 3, 3, N)."""
     rot = frames.rotation
-    inertia = params.body_inertia[:, None, :, :, None]                 # (n, 1, 3, 3, 1)
+    inertia = lift(params.body_inertia, 3)[:, None]             # (n, 1, 3, 3, 1 or N)
     rot_inertia = sum(rot[:, :, j, None, :] * inertia[:, :, j] for j in range(3))
     return matmul(rot_inertia, np.swapaxes(rot, 1, 2))

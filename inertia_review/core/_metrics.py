@@ -10,7 +10,7 @@ from typing import NamedTuple
 import numpy as np
 
 from . import _dynamics, _kinematics
-from ._smallmat import cholesky_forward, matmul, matvec, sym_eig, transpose
+from ._smallmat import cholesky_forward, lift, matmul, matvec, sym_eig, transpose
 
 __all__ = ["TaskTerms", "task_terms", "PrincipalMasses", "TorqueHeadroom", "SINGULAR_RTOL"]
 
@@ -180,15 +180,15 @@ def _dynamic_row_norms(params, terms):
 def torque_headroom(params, terms, accel_mps2):
     """TorqueHeadroom with batch-last arrays ((n, N) per joint, (N,) summaries)."""
     static = np.abs(_dynamics.gravity_torque(params, terms.frames))
-    rated = np.isfinite(params.peak_torque)[:, None]
+    rated = np.isfinite(lift(params.peak_torque, 1))
     if accel_mps2 > 0.0:
         worst = static + accel_mps2 * _dynamic_row_norms(params, terms)
     else:
         worst = static.copy()
     nan = np.where(rated, 1.0, np.nan)
-    peak = params.peak_torque[:, None]
+    peak = lift(params.peak_torque, 1)
     utilisation = worst / peak
-    static_util = static / params.continuous_torque[:, None]
+    static_util = static / lift(params.continuous_torque, 1)
     headroom = (peak - worst) * nan
     margin = np.where(rated, 1.0 - utilisation, np.inf)
     limiting = np.argmin(margin, axis=0)
@@ -200,8 +200,8 @@ def torque_headroom(params, terms, accel_mps2):
 def acceleration_capability(params, terms):
     """min over task directions of the reachable tool acceleration (N,) [m/s^2]."""
     gravity = _dynamics.gravity_torque(params, terms.frames)
-    rated = np.isfinite(params.peak_torque)[:, None]
-    spare = params.peak_torque[:, None] - np.abs(gravity)       # (n, N)
+    rated = np.isfinite(lift(params.peak_torque, 1))
+    spare = lift(params.peak_torque, 1) - np.abs(gravity)       # (n, N)
     norms = _dynamic_row_norms(params, terms)
     positive = norms > 0.0
     per_joint = np.where(positive, spare / np.where(positive, norms, 1.0), np.inf)

@@ -9,7 +9,7 @@ faster than ``matmul`` or ``linalg`` on (N, 3, 3) stacks.
 import numpy as np
 
 __all__ = ["matmul", "matvec", "const_matmul", "const_matvec", "cross", "dot", "transpose",
-           "cholesky_forward", "sym_eig"]
+           "cholesky_forward", "sym_eig", "lift", "pmatmul", "pmatvec"]
 
 
 def matmul(a, b):
@@ -40,6 +40,35 @@ def const_matmul(a, b):
 def const_matvec(a, v):
     """(i, j, N) @ constant (j,) -> (i, N)."""
     return np.einsum("ijn,j->in", a, v)
+
+
+def lift(x, ndim):
+    """A parameter array with a batch axis: ``x[..., None]`` if it has ``ndim`` axes (one set
+    of parameters for every configuration), else ``x`` itself (per-configuration parameters,
+    batch already last)."""
+    return x[..., None] if x.ndim == ndim else x
+
+
+def pmatmul(a, b):
+    """Product of parameter matrices, each constant (i, j) or per configuration (i, j, N)."""
+    if a.ndim == 2 and b.ndim == 2:
+        return a @ b
+    if b.ndim == 2:
+        return const_matmul(a, b)
+    if a.ndim == 2:
+        return np.einsum("ij,jkn->ikn", a, b)
+    return matmul(a, b)
+
+
+def pmatvec(a, v):
+    """(i, j) or (i, j, N) @ (j,) or (j, N): constant or per-configuration parameters."""
+    if a.ndim == 2 and v.ndim == 1:
+        return a @ v
+    if v.ndim == 1:
+        return const_matvec(a, v)
+    if a.ndim == 2:
+        return a @ v
+    return matvec(a, v)
 
 
 def cross(a, b):

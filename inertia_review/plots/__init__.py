@@ -17,6 +17,8 @@ One configuration (Display objects: ``from_arm``, ``plot``, ``update``)
 
 Apparent-mass ellipses follow Asada's generalized inertia ellipsoid
 x^T Lambda x = 1 (semi-axes 1 / sqrt(mass)): short along heavy directions.
+
+Layer rule: plots may import ``core``, ``model`` and ``studies``; never ``widgets`` or ``review``.
 """
 
 from ._cycle_plots import (

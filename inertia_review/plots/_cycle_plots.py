@@ -21,6 +21,7 @@ class CycleTorqueArtists:
     rms_lines: list
     axes: list
     figure: object
+    caution: object = None
 
 
 @dataclass
@@ -33,31 +34,39 @@ class CycleUtilisationArtists:
     ax: object
 
 
-def plot_cycle_torques(result, *, axes=None):
-    """Joint torque over the cycle time, one panel per joint, with the ratings.
+def plot_cycle_torques(result, *, axes=None, caution=True):
+    """Joint torque over the cycle time, one panel per joint, with the ratings and the caution.
 
     Each panel shows tau_j(t) [N·m], the peak rating (±, solid), the continuous rating (±,
-    dashed) and the cycle's RMS torque (dotted); dwells are shaded.
+    dashed) and the cycle's RMS torque (dotted); dwells are shaded. The torque caution
+    (``result.caution``) is placed under the panels (in the notes strip of a new figure,
+    or under the last given Axes).
 
     Parameters
     ----------
     result : CycleTorques
         From :func:`inertia_review.cycle_torques`.
     axes : sequence of n Axes, optional
+        One per joint; a new figure (through pyplot, so a notebook shows it) when None.
+    caution : bool, default True
+        ``False`` leaves the caution to the caller (a panel that shows it beside the image).
 
     Returns
     -------
     CycleTorqueArtists
+        ``caution`` holds the caution Text (None with ``caution=False``).
     """
+    from matplotlib.lines import Line2D
+    from matplotlib.patches import Patch
+
     n = len(result.joint_names)
     with _style.plot_style():
-        if axes is None:
-            from matplotlib.figure import Figure
-            fig = Figure(figsize=(7.0, 1.9 * n + 0.8), layout="constrained")
-            axes = fig.subplots(n, 1, sharex=True, squeeze=False)[:, 0]
-        axes = list(axes)
-        fig = axes[0].figure
+        layout = _style.Layout(axes, nrows=n, sharex=True, width_in=7.0,
+                               height_in=1.9 * n + 0.8)
+        axes = layout.axes
+        fig = layout.figure
         lines, peaks, conts, rmss = [], [], [], []
+        dwell = result.dwelling
         for j, ax in enumerate(axes):
             (line,) = ax.plot(result.t, result.tau[:, j], color=COLORS["arm"], linewidth=1.4,
                               label="torque")
@@ -72,7 +81,6 @@ def plot_cycle_torques(result, *, axes=None):
                           for s in (1, -1)] if np.isfinite(ct) else [])
             rmss.append(ax.axhline(result.rms_torque_Nm[j], color=COLORS["light"], linewidth=1.2,
                                    linestyle=":", label="RMS over the cycle"))
-            dwell = result.dwelling
             if np.any(dwell):
                 ax.fill_between(result.t, 0, 1, where=dwell, transform=ax.get_xaxis_transform(),
                                 color=COLORS["grid"], alpha=0.5, linewidth=0, label="dwell")
@@ -80,8 +88,21 @@ def plot_cycle_torques(result, *, axes=None):
             ax.grid(True, color=COLORS["grid"], linewidth=0.6)
         axes[-1].set_xlabel("time [s]")
         axes[0].set_title(f"{result.design_name}: cycle '{result.cycle.name}'")
-        axes[0].legend(loc="upper right", fontsize=8, ncols=3)
-    return CycleTorqueArtists(lines, peaks, conts, rmss, axes, fig)
+        handles = [Line2D([], [], color=COLORS["arm"], linewidth=1.4, label="torque"),
+                   Line2D([], [], color=COLORS["peak"], linewidth=1.2, label="peak rating"),
+                   Line2D([], [], color=COLORS["continuous"], linewidth=1.2, linestyle="--",
+                          label="continuous rating"),
+                   Line2D([], [], color=COLORS["light"], linewidth=1.2, linestyle=":",
+                          label="RMS over the cycle")]
+        if np.any(dwell):
+            handles.append(Patch(color=COLORS["grid"], alpha=0.5, label="dwell"))
+        if layout.notes is not None:
+            layout.legend(handles)
+        else:
+            axes[0].legend(handles=handles, loc="upper right", fontsize=8, ncols=3)
+        text = layout.caution(result.caution) if caution else None
+        layout.finish()
+    return CycleTorqueArtists(lines, peaks, conts, rmss, axes, fig, text)
 
 
 def plot_cycle_utilisation(result, *, ax=None, title=None, caution=True, legend=True):

@@ -47,6 +47,44 @@ def _plane_from(arm, plane_axes):
     return MapPlane(axes, empty, empty, axis_label(axes[0], "u"), axis_label(axes[1], "v"))
 
 
+def _region_outline(region, plane):
+    """Screen points [mm] of a task region in the plane: a closed outline (rectangle, box) or
+    the points (point list); None without a region."""
+    region = getattr(region, "region", region)          # a Task carries its region
+    if region is None:
+        return None, False
+    kind = getattr(region, "kind", None)
+    if kind in ("rectangle", "box"):
+        axes = np.asarray(region.axes, float)
+        half = 0.5 * np.asarray(region.size_m, float)
+        signs = np.array(np.meshgrid(*[[-1.0, 1.0]] * len(half), indexing="ij")).reshape(
+            len(half), -1).T
+        corners = plane.project(np.asarray(region.center_m, float) + (signs * half) @ axes)
+        return _hull(corners), True
+    points, _ = region.sample()
+    return plane.project(np.asarray(points, float).reshape(-1, 3)), False
+
+
+def _hull(xy):
+    """Convex hull of a few 2-D points, closed (Andrew's monotone chain; common practice)."""
+    pts = sorted(set(map(tuple, np.round(np.asarray(xy, float), 9))))
+    if len(pts) < 3:
+        return np.asarray(pts + pts[:1], float)
+
+    def half(points):
+        out = []
+        for p in points:
+            while len(out) >= 2 and ((out[-1][0] - out[-2][0]) * (p[1] - out[-2][1]) -
+                                     (out[-1][1] - out[-2][1]) * (p[0] - out[-2][0])) <= 0:
+                out.pop()
+            out.append(p)
+        return out
+
+    lower, upper = half(pts), half(pts[::-1])
+    ring = lower[:-1] + upper[:-1]
+    return np.asarray(ring + ring[:1], float)
+
+
 class MassEllipseDisplay:
     """The arm in a plane with its apparent-mass ellipse at the tool point.
 
@@ -70,10 +108,18 @@ class MassEllipseDisplay:
     scale : float
         [mm sqrt(kg)].
     title : str, optional
+    region_xy_mm : ndarray (m, 2), optional
+        The task region in the plane [mm]: a closed outline (``region_closed``) or points.
+
+    The view is fitted to what it shows: the arm, the ellipse and the task region, with a
+    margin; :meth:`update` widens it when the arm or the ellipse would leave it (never
+    narrows it, so that successive probes compare).
 
     Attributes
     ----------
     ellipse_ : matplotlib.patches.Ellipse
+    region_ : matplotlib.lines.Line2D or None
+        The task region's outline (or points) in the plane.
     arm_line_ : matplotlib.lines.Line2D
     text_ : matplotlib.text.Text
         The principal masses.
@@ -81,7 +127,9 @@ class MassEllipseDisplay:
     """
 
     def __init__(self, *, arm_xy_mm, width_mm, height_mm, angle_deg, masses_kg, plane_axes,
-                 scale, title=None):
+                 scale, title=None, region_xy_mm=None, region_closed=True):
+        self.region_xy_mm = region_xy_mm
+        self.region_closed = region_closed
         self.arm_xy_mm = arm_xy_mm
         self.width_mm = width_mm
         self.height_mm = height_mm
@@ -107,7 +155,8 @@ class MassEllipseDisplay:
                     scale=float(scale), title=f"{arm.name} at q = {_q_text(q)}")
 
     @classmethod
-    def from_arm(cls, arm, q, *, plane_axes=None, scale=None, ax=None):
+    def from_arm(cls, arm, q, *, plane_axes=None, scale=None, region="task", ax=None,
+                 figure=None):
         """Compute through the core (``ir.principal_masses``, ``arm.link_frames``) and plot.
 
         Parameters
@@ -121,33 +170,75 @@ class MassEllipseDisplay:
         scale : float, optional
             [mm sqrt(kg)]; default: the ellipse's longest semi-axis is 0.3 of the arm's
             reach at ``q``. Kept for later :meth:`update` calls so sizes compare.
+        region : Rectangle, Box, PointSet, Task, "task" or None, default "task"
+            Task region drawn (projected) and included in the view; "task": the design's
+            own task region (none if the design has no task).
         ax : Axes, optional
+        figure : Figure, optional
+            An empty figure (e.g. off-screen) to lay the display out in, as a new figure.
         """
         plane = _plane_from(arm, plane_axes)
-        disp = cls(**cls._compute(arm, q, plane, scale))
+        if isinstance(region, str):
+            if region != "task":
+                raise ValueError(f"`region` must be a region, a Task, 'task' or None; got "
+                                 f"{region!r}")
+            region = arm.task
+        outline, closed = _region_outline(region, plane)
+        disp = cls(**cls._compute(arm, q, plane, scale), region_xy_mm=outline,
+                   region_closed=closed)
         disp._arm = arm
         disp._plane = plane
         disp._reach_mm = float(np.sum(np.linalg.norm(np.diff(disp.arm_xy_mm, axis=0), axis=1)))
-        return disp.plot(ax=ax)
+        return disp.plot(ax=ax, figure=figure)
+
+    def _content_box(self):
+        """(x0, x1, y0, y1) [mm] around the arm, the ellipse and the region, with a margin."""
+        xy = np.asarray(self.arm_xy_mm, float)
+        semi = 0.5 * max(self.width_mm, self.height_mm)
+        parts = [xy, xy[-1] + semi * np.array([[-1.0, -1.0], [1.0, 1.0]])]
+        if self.region_xy_mm is not None and len(self.region_xy_mm):
+            parts.append(np.asarray(self.region_xy_mm, float))
+        pts = np.vstack(parts)
+        lo, hi = pts.min(axis=0), pts.max(axis=0)
+        pad = 0.08 * float(max(hi - lo)) + 10.0
+        return lo[0] - pad, hi[0] + pad, lo[1] - pad, hi[1] + pad
+
+    def _fit_view(self, ax, widen_only=False):
+        x0, x1, y0, y1 = self._content_box()
+        if widen_only:
+            (a0, a1), (b0, b1) = ax.get_xlim(), ax.get_ylim()
+            if x0 >= a0 and x1 <= a1 and y0 >= b0 and y1 <= b1:
+                return
+            x0, x1, y0, y1 = min(x0, a0), max(x1, a1), min(y0, b0), max(y1, b1)
+        ax.set_xlim(x0, x1)
+        ax.set_ylim(y0, y1)
 
     def _text(self):
         masses = ", ".join("unbounded" if not np.isfinite(m) else f"{m:.3g}"
                            for m in self.masses_kg)
         return f"principal apparent masses: {masses} kg"
 
-    def plot(self, ax=None):
-        """Draw the stored results; sets ``ellipse_``, ``arm_line_``, ``text_``, ``ax_``,
-        ``figure_`` and returns self."""
+    def plot(self, ax=None, figure=None):
+        """Draw the stored results; sets ``ellipse_``, ``arm_line_``, ``region_``, ``text_``,
+        ``ax_``, ``figure_`` and returns self (``figure``: an empty figure to lay out in)."""
         from matplotlib.lines import Line2D
         from matplotlib.patches import Ellipse
 
         axes = np.asarray(self.plane_axes, float)
         with _style.plot_style():
-            layout = _style.Layout(ax, width_in=6.0, height_in=6.0, equal=True)
+            layout = _style.Layout(ax, width_in=6.0, height_in=6.0, equal=True, figure=figure)
             ax = layout.ax
             ax.grid(True, color=COLORS["grid"], linewidth=0.6, zorder=0)
             ax.set_axisbelow(True)
             xy = np.asarray(self.arm_xy_mm, float)
+            self.region_ = None
+            if self.region_xy_mm is not None and len(self.region_xy_mm):
+                rxy = np.asarray(self.region_xy_mm, float)
+                (self.region_,) = ax.plot(rxy[:, 0], rxy[:, 1], color=COLORS["muted"],
+                                          linewidth=1.2, linestyle=(0, (4, 2)) if
+                                          self.region_closed else "none",
+                                          marker=None if self.region_closed else ".",
+                                          zorder=3, label="task region (projected)")
             (self.arm_line_,) = ax.plot(xy[:, 0], xy[:, 1], color=COLORS["arm"], linewidth=3.0,
                                         marker="o", markersize=6, markerfacecolor=COLORS["joint"],
                                         markeredgecolor=COLORS["arm"], zorder=4,
@@ -160,11 +251,7 @@ class MassEllipseDisplay:
                                  va="bottom", ha="left",
                                  bbox=dict(boxstyle="round,pad=0.3", facecolor="white",
                                            alpha=0.85, edgecolor=COLORS["grid"]), zorder=8)
-            reach = getattr(self, "_reach_mm", None) or float(
-                np.sum(np.linalg.norm(np.diff(xy, axis=0), axis=1)))
-            half = 1.15 * reach + 0.5 * max(self.width_mm, self.height_mm)
-            ax.set_xlim(xy[0, 0] - half, xy[0, 0] + half)
-            ax.set_ylim(xy[0, 1] - half, xy[0, 1] + half)
+            self._fit_view(ax)
             ax.set_aspect("equal", adjustable="box")
             ax.set_xlabel(axis_label(axes[0], "u"))
             ax.set_ylabel(axis_label(axes[1], "v"))
@@ -174,7 +261,7 @@ class MassEllipseDisplay:
                          markerfacecolor=COLORS["light"], markeredgecolor=COLORS["light"],
                          alpha=0.6, label=f"apparent-mass ellipse: semi-axis = {self.scale:.3g} "
                                           "mm / √(m / kg), short = heavy")
-            layout.legend([self.arm_line_, key], ncols=1)
+            layout.legend([self.arm_line_, key, self.region_], ncols=1)
             layout.finish()
         self.ax_, self.figure_ = ax, ax.figure
         return self
@@ -195,6 +282,7 @@ class MassEllipseDisplay:
         self.ellipse_.set_height(self.height_mm)
         self.ellipse_.set_angle(self.angle_deg)
         self.text_.set_text(self._text())
+        self._fit_view(self.ax_, widen_only=True)
         self.ax_.set_title(self.title)
         self.figure_.canvas.draw_idle()
         return self
@@ -217,6 +305,8 @@ class TorqueBarsDisplay:
     static_bars_, worst_bars_ : matplotlib.container.BarContainer
     peak_marks_, continuous_marks_ : matplotlib.collections.LineCollection
     labels_ : list of Text
+    legend_ : Legend
+        Under the bars (own figure) or right of the Axes (given Axes), clear of the labels.
     caution_ : Text
     ax_, figure_ : Axes, Figure
     """
@@ -248,8 +338,10 @@ class TorqueBarsDisplay:
                            f"{float(accel_mps2):g} m/s²\nq = {_q_text(q)}"))
 
     @classmethod
-    def from_arm(cls, arm, q, accel_mps2=0.0, *, ax=None):
+    def from_arm(cls, arm, q, accel_mps2=0.0, *, ax=None, figure=None):
         """Compute through the core (``ir.torque_headroom``) at ``q`` (n,) [rad] and plot.
+
+        ``figure``: an empty figure (e.g. off-screen) to lay the display out in.
 
         Raises ValueError (from the core) when no joint has a torque rating.
         """
@@ -258,7 +350,7 @@ class TorqueBarsDisplay:
                    continuous_torque_Nm=arm.continuous_torque, accel_mps2=float(accel_mps2),
                    **values)
         disp._arm = arm
-        return disp.plot(ax=ax)
+        return disp.plot(ax=ax, figure=figure)
 
     def _label_texts(self):
         out = []
@@ -280,15 +372,19 @@ class TorqueBarsDisplay:
                                   self.peak_torque_Nm, self.continuous_torque_Nm)])
         return 1.3 * float(values.max()) if values.max() > 0 else 1.0
 
-    def plot(self, ax=None):
-        """Draw the stored results; sets the artists (see class docs) and returns self."""
+    def plot(self, ax=None, figure=None):
+        """Draw the stored results; sets the artists (see class docs) and returns self.
+
+        The legend never covers the per-joint labels: in a new (or given empty) figure it
+        sits in the notes strip under the bars; in a given Axes, outside it on the right.
+        """
         from matplotlib.lines import Line2D
         from matplotlib.patches import Patch
 
         n = len(self.joint_names)
         x = np.arange(n, dtype=float)
         with _style.plot_style():
-            layout = _style.Layout(ax, width_in=6.4, height_in=4.6)
+            layout = _style.Layout(ax, width_in=6.4, height_in=4.6, figure=figure)
             ax = layout.ax
             ax.grid(True, axis="y", color=COLORS["grid"], linewidth=0.6)
             ax.set_axisbelow(True)
@@ -324,7 +420,12 @@ class TorqueBarsDisplay:
                        Line2D([], [], color=COLORS["peak"], linewidth=2.2, label="peak rating"),
                        Line2D([], [], color=COLORS["continuous"], linewidth=2.0,
                               linestyle=(0, (4, 2)), label="continuous rating")]
-            layout.legend(handles, ncols=2)
+            if layout.notes is not None:
+                self.legend_ = layout.legend(handles, ncols=2)
+            else:
+                self.legend_ = ax.legend(handles=handles, loc="upper left",
+                                         bbox_to_anchor=(1.02, 1.0), borderaxespad=0.0,
+                                         framealpha=0.9)
             self.caution_ = layout.caution(self.caution)
             layout.finish()
         self.ax_, self.figure_ = ax, ax.figure

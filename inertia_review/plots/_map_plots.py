@@ -4,6 +4,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from ..studies._ik_status import SEAM, SOLVED
 from . import _style
 from ._labels import variable_label
 from ._plane import grid_values, map_plane, solved_mask
@@ -32,6 +33,10 @@ class MapArtists:
     ax : matplotlib.axes.Axes
     label : str
         The colour-bar label.
+    legend : matplotlib.legend.Legend or None
+    seam : matplotlib.lines.Line2D or None
+        Markers on the points of a branch seam (status 'branch_seam'): neighbouring
+        solutions jump there, the arm cannot keep one branch across.
     """
 
     mesh: object
@@ -43,6 +48,7 @@ class MapArtists:
     ax: object
     label: str
     legend: object = None
+    seam: object = None
 
 
 def arm_points(arm, q):
@@ -94,7 +100,7 @@ def _draw_probe(ax, ds, plane, arm, probe):
     iv, iu = _probe_index(ds, probe)
     status = int(ds["status"].transpose("v_m", "u_m").values[iv, iu])
     u_m, v_m = float(ds["u_m"].values[iu]), float(ds["v_m"].values[iv])
-    if status != 0:
+    if status not in SOLVED:
         meanings = ds["status"].attrs.get("flag_meanings", "").split()
         reason = meanings[status] if status < len(meanings) else str(status)
         raise ValueError(f"`probe` point (u, v) = ({u_m:.4g}, {v_m:.4g}) m is not solved "
@@ -155,6 +161,17 @@ def _singular_hatch(ax, plane, ds, ok):
     if not flag.any():
         return None
     return hatch_cells(ax, plane, flag, "xxxx", label="near-singular")
+
+
+def _seam_marks(ax, plane, ds):
+    """Markers on the branch-seam points (status 'branch_seam'), or None."""
+    seam = np.asarray(ds["status"].transpose("v_m", "u_m").values) == SEAM
+    if not seam.any():
+        return None
+    uu, vv = np.meshgrid(plane.u_mm, plane.v_mm)
+    (line,) = ax.plot(uu[seam], vv[seam], linestyle="none", marker="d", markersize=3.5,
+                      color=COLORS["reach"], zorder=4, label="branch seam")
+    return line
 
 
 def _handles(reach, singular, extra=()):
@@ -237,6 +254,7 @@ def plot_metric_map(ds, metric="mass_ratio", *, ax=None, arm=None, probe=None, s
                              rasterized=True, zorder=1, **style)
         reach = _reach_contour(ax, plane, ok)
         singular = _singular_hatch(ax, plane, ds, ok)
+        seam = _seam_marks(ax, plane, ds)
         arm_line = marker = None
         if probe is not None:
             if arm is None:
@@ -244,9 +262,10 @@ def plot_metric_map(ds, metric="mass_ratio", *, ax=None, arm=None, probe=None, s
             arm_line, marker = _draw_probe(ax, ds, plane, arm, probe)
         _frame(ax, plane, ds.attrs.get("design", "") if title is None else title)
         cbar = layout.figure.colorbar(mesh, ax=ax, label=label, shrink=0.9) if colorbar else None
-        leg = layout.legend(_handles(reach, singular, (arm_line, marker))) if legend else None
+        leg = (layout.legend(_handles(reach, singular, (arm_line, marker, seam))) if legend
+               else None)
         layout.finish()
-    return MapArtists(mesh, cbar, reach, singular, arm_line, marker, ax, label, leg)
+    return MapArtists(mesh, cbar, reach, singular, arm_line, marker, ax, label, leg, seam)
 
 
 @dataclass
@@ -334,8 +353,13 @@ def plot_small_multiples(maps, metric="mass_ratio", *, axes=None, select=None, c
                                  colorbar=False, title=t, legend=False)
                  for ds, a, t in zip(maps, axes, titles)]
         if own:
-            for a in axes:
-                a.label_outer()
+            # every panel keeps its x tick labels and x label (a panel is read on its own);
+            # the shared y axis is labelled once per row
+            for i, a in enumerate(axes):
+                a.tick_params(labelbottom=True)
+                if i % ncols:
+                    a.tick_params(labelleft=False)
+                    a.set_ylabel("")
         cbar = fig.colorbar(drawn[0].mesh, ax=axes, label=labels.pop(), shrink=0.85)
         reach = next((d.reach for d in drawn if d.reach is not None), None)
         singular = next((d.singular for d in drawn if d.singular is not None), None)

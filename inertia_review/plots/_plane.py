@@ -11,6 +11,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..studies._ik_status import SOLVED
 from ._labels import axis_label
 
 __all__ = ["MapPlane", "map_plane", "grid_values", "solved_mask"]
@@ -67,8 +68,8 @@ def map_plane(ds):
 
 
 def solved_mask(ds):
-    """(nv, nu) bool: grid points solved (status 0)."""
-    return np.asarray(ds["status"].transpose(*_GRID).values) == 0
+    """(nv, nu) bool: grid points solved (status 'ok' or 'branch_seam')."""
+    return np.isin(np.asarray(ds["status"].transpose(*_GRID).values), SOLVED)
 
 
 def grid_values(ds, name, selection=None):

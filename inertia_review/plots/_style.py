@@ -2,9 +2,21 @@
 
 Nothing here changes matplotlib's global state: the settings are applied only
 inside :func:`plot_style` (an ``rc_context``) while our functions draw.
+
+The figure lifecycle under a notebook's inline backend: pyplot picks its backend lazily,
+when the first figure is made, and IPython then switches interactive mode on; a figure
+made in interactive mode is shown (once) when the cell ends. A plain ``rc_context``
+restores *every* rc value on exit, ``interactive`` included, so when the first figure of
+a session was made inside it, interactive mode went off again and no later figure was
+ever shown (it stayed open in pyplot instead). :func:`plot_style` therefore restores
+the look only and leaves the interactive mode as the body left it: it is session
+state, not style.
 """
 
+import contextlib
 import textwrap
+
+import numpy as np
 
 __all__ = ["COLORS", "RC", "CMAP_SEQUENTIAL", "CMAP_DIVERGING", "HATCHES", "plot_style",
            "Layout", "add_caution", "principal_colors"]
@@ -69,8 +81,14 @@ RC = {
 CAUTION_FONTSIZE = 7.0
 
 
+@contextlib.contextmanager
 def plot_style():
     """Context manager applying the inertia_review look while drawing.
+
+    On exit every rc setting is restored except ``interactive`` (the interactive
+    mode is session state that the backend may switch on while a first figure is
+    made; see the module notes), so figures made inside are shown by the inline
+    backend like any other.
 
     Examples
     --------
@@ -80,7 +98,16 @@ def plot_style():
     """
     import matplotlib as mpl
 
-    return mpl.rc_context(RC)
+    state = {}
+    try:
+        with mpl.rc_context(RC):
+            try:
+                yield
+            finally:
+                state["interactive"] = mpl.rcParams["interactive"]
+    finally:
+        if state:
+            mpl.interactive(state["interactive"])
 
 
 def _legend_columns(handles, width_in, fontsize=8.5):
@@ -94,34 +121,53 @@ class Layout:
     """The Axes to draw into, and where the legend and caution go.
 
     ``ax`` given: draw into it (no new figure); the legend goes inside the Axes and a
-    caution under its x label. ``ax`` None: a new figure (constrained layout) with the
+    caution under its x label. ``figure`` given (an empty Figure, e.g. an off-screen one
+    of a widget): laid out as a new figure, inside it. Otherwise a new pyplot figure
+    (constrained layout), so that a notebook shows it, with the
     main Axes on top and a notes strip below it (Axes off) that holds the legend and the
     caution, sized in :meth:`finish` so nothing overlaps; :meth:`finish` also sizes the
     figure to the data's aspect ratio for equal-aspect plots.
     """
 
-    def __init__(self, ax=None, *, width_in=6.4, height_in=5.0, notes=True, equal=False):
+    def __init__(self, ax=None, *, width_in=6.4, height_in=5.0, notes=True, equal=False,
+                 nrows=1, sharex=False, figure=None):
         self.equal = equal
         self.legend_ = None
         self.caution_ = None
         self._caution_lines = 0
         if ax is not None:
-            self.ax, self.notes, self.own, self.grid = ax, None, False, None
-            self.figure = ax.figure
+            axes = list(np.ravel(np.asarray(ax, dtype=object))) if nrows > 1 else [ax]
+            if len(axes) != nrows:
+                raise ValueError(f"expected {nrows} Axes (one per panel), got {len(axes)}")
+            self.axes, self.ax, self.notes, self.own, self.grid = axes, axes[0], None, False, None
+            self.figure = axes[0].figure
             return
-        import matplotlib.pyplot as plt
-
-        fig = plt.figure(figsize=(width_in, height_in),
-                         layout="compressed" if equal else "constrained")
-        self.own, self.figure = True, fig
-        if notes:
-            self.grid = fig.add_gridspec(2, 1, height_ratios=[1.0, 0.05])
-            self.ax = fig.add_subplot(self.grid[0])
-            self.notes = fig.add_subplot(self.grid[1])
-            self.notes.set_axis_off()
+        engine = "compressed" if equal else "constrained"
+        if figure is not None:                    # an empty figure of the caller (off-screen)
+            if figure.axes:
+                raise ValueError("`figure` must be empty (the plot lays it out); pass `ax` "
+                                 "to draw into an existing Axes")
+            fig = figure
+            fig.set_layout_engine(engine)
         else:
-            self.grid, self.notes = None, None
-            self.ax = fig.add_subplot()
+            import matplotlib.pyplot as plt
+
+            fig = plt.figure(figsize=(width_in, height_in), layout=engine)
+        self.own, self.figure = True, fig
+        self.grid = fig.add_gridspec(nrows + 1 if notes else nrows, 1,
+                                     height_ratios=[1.0] * nrows + ([0.05] if notes else []))
+        self.axes = []
+        for i in range(nrows):
+            share = self.axes[0] if (sharex and self.axes) else None
+            self.axes.append(fig.add_subplot(self.grid[i], sharex=share))
+        if sharex:
+            for a in self.axes[:-1]:
+                a.tick_params(labelbottom=False)
+        self.ax = self.axes[0]
+        self.notes = None
+        if notes:
+            self.notes = fig.add_subplot(self.grid[nrows])
+            self.notes.set_axis_off()
 
     def legend(self, handles, *, ncols=None, loc="best"):
         """A legend of ``handles`` in the notes strip (own figure) or inside the Axes."""
@@ -145,7 +191,7 @@ class Layout:
         """Place ``text`` (a caution) under the legend in the notes strip, or under the Axes."""
         text = " ".join(str(text).split())
         if self.notes is None:
-            self.caution_ = add_caution(self.ax, text, fontsize=fontsize)
+            self.caution_ = add_caution(self.axes[-1], text, fontsize=fontsize)
             return self.caution_
         chars = max(40, int((self.figure.get_figwidth() - 0.4) * 72.0 / (0.6 * fontsize)))
         wrapped = textwrap.fill(text, width=chars)
@@ -170,6 +216,7 @@ class Layout:
             main = (width - 2.0) * min(max(aspect, 0.3), 2.0) + 1.0
         else:
             main = self.figure.get_figheight() - 0.3
+        nrows = len(self.axes)
         notes = 0.0
         if self.notes is not None:
             rows = getattr(self, "_legend_rows", 0) if self.legend_ is not None else 0
@@ -177,7 +224,7 @@ class Layout:
             if rows == 0 and self._caution_lines == 0:
                 self.notes.set_visible(False)
                 notes = 0.01
-            self.grid.set_height_ratios([main, notes])
+            self.grid.set_height_ratios([main / nrows] * nrows + [notes])
         self.figure.set_size_inches(width, main + notes)
 
 

@@ -17,6 +17,7 @@ from ._body_regions import (
     load_body_regions,
 )
 from ._cautions import CONTACT_CAUTION
+from ._ik_status import SOLVED
 from ._contact_model import (
     _check_model,
     _simplified_mass,
@@ -353,7 +354,7 @@ def check_speeds(speed_map_or_arm, points, speeds, *, q=None, directions=None,
         q, status = solution.q, solution.status
     else:
         status = np.zeros(batch, dtype=np.int8)
-    solved = status == 0
+    solved = np.isin(status, SOLVED)
 
     m_r = np.full(batch, np.nan)
     if model == "simplified":

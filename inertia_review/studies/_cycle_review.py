@@ -13,6 +13,7 @@ import numpy as np
 from ..model._cycle_schema import Cycle, cycle_from_dict, design_cycles
 from ._cautions import TORQUE_CAUTION
 from ._ik import STATUS, solve_positions
+from ._ik_path import follow_positions
 from ._profiles import _positive, s_curve_profile, trapezoidal_profile
 
 __all__ = ["CycleTorques", "cycle_torques"]
@@ -192,21 +193,22 @@ def _line_move(arm, cycle, index, move, q_start, posture, rate):
         prof = s_curve_profile(length, move.speed_mps, move.accel_mps2, move.jerk_mps3)
     count, h, t = _grid(prof.duration, rate)
     s, sd, sdd = prof.sample(t)
-    # sequential warm start along the path: knots every ~25 mm, each solved from the last
+    # the branch the move starts in, continued along the path: knots every ~25 mm, each
+    # solved from the last; then all samples at once from the knots interpolated
     knots = max(2, int(math.ceil(length / _KNOT_SPACING_M)))
     knot_s = np.linspace(0.0, length, knots + 1)
-    knot_q = [q_start]
-    for ks in knot_s[1:]:
+    walk = follow_positions(arm, p0 + knot_s[1:, None] * u, q_start, tolerance_m=_IK_TOLERANCE_M)
+    if walk.stop >= 0:
+        ks = knot_s[walk.stop + 1]
         t_knot = float(np.interp(ks, np.concatenate([[0.0], s, [length]]),
                                  np.concatenate([[0.0], t, [prof.duration]])))
-        knot_q.append(_solve_point(arm, p0 + u * ks, posture, knot_q[-1], cycle, index, move,
-                                   _at(t_knot)))
-    knot_q = np.array(knot_q)
+        _fail(cycle, index, move, p0 + u * ks, _at(t_knot), walk.reason)
+    knot_q = np.concatenate([q_start[None], walk.q])
     s_all = np.concatenate([s, [length]])
     warm = np.stack([np.interp(s_all, knot_s, knot_q[:, j]) for j in range(arm.dof)], axis=-1)
     points = p0 + s_all[:, None] * u
-    sol = solve_positions(arm, points, posture=posture, tolerance_m=_IK_TOLERANCE_M,
-                          initial_q=warm)
+    sol = solve_positions(arm, points, posture="nearest", seeds=0, method="numeric",
+                          tolerance_m=_IK_TOLERANCE_M, initial_q=warm)
     bad = np.flatnonzero(sol.status != 0)
     if bad.size:
         b = int(bad[0])
@@ -293,9 +295,11 @@ def cycle_torques(arm, cycle, *, sample_rate_hz=1000.0, posture="elbow_up"):
     ``1 / sample_rate_hz``, and so is every dwell.
 
     - Line moves: the tool point follows the segment with the move's profile; the
-      configurations come from :func:`solve_positions`, warm-started along the path (knots
-      every 25 mm, each solved from the previous one; then all samples at once from the
-      knots interpolated). Joint speeds qd = J_t^-1 x_dot with the task Jacobian
+      configurations keep the branch the move starts in: knots every 25 mm, each solved
+      from the previous one (:func:`follow_positions`; a knot that the arm can reach only
+      by changing branch, past a joint limit or through the elbow's stretched or folded
+      pose, fails the cycle naming the move, the point and the reason), then all samples
+      at once warm-started from the knots interpolated. Joint speeds qd = J_t^-1 x_dot with the task Jacobian
       J_t = A J_v (square: the arm must not be redundant for its task); accelerations
       qdd = J_t^-1 (A x_ddot - A J_v_dot qd), where J_v_dot qd is a central difference of
       J_v along qd (step 1e-5 rad, O(step^2) error). A sample that cannot be reached, a

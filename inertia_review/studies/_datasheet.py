@@ -9,6 +9,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ._cautions import STIFFNESS_CAUTION
+from ._ik_status import SOLVED
 
 __all__ = ["datasheet", "Datasheet"]
 
@@ -104,7 +105,7 @@ def datasheet(arm, region=None, **map_options):
             raise ValueError(f"design '{arm.name}' has no [task]: give a region")
         region = arm.task
     ds = region if hasattr(region, "data_vars") else metric_map(arm, region, **map_options)
-    ok = ds["status"].values == 0
+    ok = np.isin(ds["status"].values, SOLVED)        # ok or solved at a branch seam
     params = arm._params
     first = params.mount_position + params.mount_rotation @ params.joint_position[0]
     points = np.stack([ds[c].values for c in ("x_m", "y_m", "z_m")], axis=-1)

@@ -10,7 +10,7 @@ from ..core import _metrics, _payload, _stiffness
 from ..core._layout import to_core
 from ..model._regions import Task
 from ._cautions import STIFFNESS_CAUTION, TORQUE_CAUTION
-from ._ik import STATUS, solve_positions
+from ._ik import SOLVED, STATUS, solve_positions
 
 __all__ = ["metric_map", "METRIC_ATTRS"]
 
@@ -50,7 +50,8 @@ METRIC_ATTRS = {
     "max_tool_speed": ("m s^-1", "largest tool speed", "largest tool speed in the task with every "
                        "joint within its rated speed (rated motor speed / gear ratio)"),
     "q": ("rad", "joint angles", "configuration solved for the point (NaN where not solved)"),
-    "status": ("1", "solution status", "0 ok; see flag_values / flag_meanings"),
+    "status": ("1", "solution status", "0 ok, 6 solved at a branch seam (both carry values); "
+               "see flag_values / flag_meanings"),
 }
 
 
@@ -115,10 +116,13 @@ def map_arrays(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
     params = arm._params
     points, grid = region.sample()
     solver_options.setdefault("table_size", int(min(16384, max(2048, 4 * points[..., 0].size))))
+    # one branch over the whole grid, by continuation (a point list has no neighbours)
+    solver_options.setdefault("continuation", "grid" if region.kind in ("rectangle", "box")
+                              else "none")
     solution = solve_positions(arm, points, posture=posture, reference_deg=reference_deg,
                                tool_angle_deg=tool_angle_deg, elbow_joint=elbow_joint,
                                **solver_options)
-    ok = solution.status == 0
+    ok = np.isin(solution.status, SOLVED)
     flat_ok = ok.reshape(-1)
     n, k = params.n, params.task_axes.shape[0]
     count = int(flat_ok.sum())

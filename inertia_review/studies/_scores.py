@@ -6,11 +6,13 @@ redone by hand from the map's own variables.
 
 import numpy as np
 
-__all__ = ["design_scores", "scores_from_arrays", "scores_table", "SCORE_COLUMNS"]
+from ._ik_status import SOLVED
+
+__all__ = ["design_scores", "scores_from_arrays", "scores_table", "SCORE_COLUMNS", "BETTER"]
 
 #: score name -> (units, definition); the order is the table's column order
 SCORE_COLUMNS = {
-    "reachable_fraction": ("1", "share of the region's grid points solved (status ok)"),
+    "reachable_fraction": ("1", "share of the region's grid points solved (status ok or branch_seam)"),
     "gci": ("1", "global conditioning index (Gosselin & Angeles 1991): mean of the isotropy "
                  "index 1/kappa (2-norm condition number of J_t) over the reachable part of "
                  "the region, each grid point weighted by its cell area (or volume)"),
@@ -32,6 +34,12 @@ SCORE_COLUMNS = {
 }
 
 
+#: for each score, whether higher is better (True), lower is better (False) or neither (None)
+BETTER = {"reachable_fraction": True, "gci": True, "isotropy_worst": True, "isotropy_p5": True,
+          "mass_ratio_worst": True, "mass_ratio_p5": True, "headroom_worst": True,
+          "headroom_worst_joint": None, "headroom_positive_fraction": True,
+          "accel_capability_min": True, "moving_mass_kg": False}
+
 def _percentile(values, q):
     return float(np.percentile(values, q)) if values.size else np.nan
 
@@ -50,7 +58,7 @@ def design_scores(ds):
 
 def scores_from_arrays(arrays, attrs, joint_names):
     """:func:`design_scores` from the map's arrays and attributes (no Dataset needed)."""
-    ok = (arrays["status"] == 0)
+    ok = np.isin(arrays["status"], SOLVED)           # ok or solved at a branch seam
     iso = arrays["isotropy"][ok]
     ratio = arrays["mass_ratio"][ok]
     weight = np.full(iso.shape, float(attrs.get("cell_measure", 1.0)))

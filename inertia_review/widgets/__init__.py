@@ -18,6 +18,10 @@ ContactBoard
     permissible contact speed of 2 to 4 alternatives on one scale (follows a ComparisonBoard)
 ContactMapPanel
     permissible transient-contact speed over the region for a body region (with cautions)
+
+Layer rule: widgets may import every layer below them (``core``, ``model``, ``studies``,
+``plots``) and the baseline tables of ``review``; they compute through those, never with
+formulas of their own.
 """
 
 from ._board import ComparisonBoard, scores_table_html

@@ -8,18 +8,11 @@ import traitlets
 
 from ..plots import plot_difference_map, plot_small_multiples
 from ..studies._maps import METRIC_ATTRS, metric_map
-from ..studies._scores import SCORE_COLUMNS, scores_table
+from ..studies._scores import BETTER, SCORE_COLUMNS, scores_table
 from ._map_panel import MAP_METRICS
 from ._render import new_figure, png_bytes
 
 __all__ = ["ComparisonBoard", "scores_table_html", "BETTER"]
-
-#: for each score, whether higher is better (True), lower is better (False) or neither (None)
-BETTER = {"reachable_fraction": True, "gci": True, "isotropy_worst": True, "isotropy_p5": True,
-          "mass_ratio_worst": True, "mass_ratio_p5": True, "headroom_worst": True,
-          "headroom_worst_joint": None, "headroom_positive_fraction": True,
-          "accel_capability_min": True, "moving_mass_kg": False}
-
 
 def scores_table_html(table):
     """HTML of a scores DataFrame with the best value of each column marked (bold, ★)."""

@@ -7,8 +7,8 @@ import numpy as np
 import traitlets
 
 from ..core._api import principal_masses, torque_headroom
-from ..model._arm import Arm
 from ..plots import MassEllipseDisplay, TorqueBarsDisplay
+from ..studies._ik_status import SOLVED
 from ._render import new_figure, png_bytes
 
 __all__ = ["PointProbe"]
@@ -78,7 +78,7 @@ class PointProbe(widgets.VBox):
             return
         iv, iu = self.panel.probe_index
         status = int(ds["status"].values[iv, iu])
-        if status != 0:
+        if status not in SOLVED:                      # 'ok' and 'branch_seam' are solved
             meaning = ds["status"].attrs["flag_meanings"].split()[status]
             self.q = None
             self.text.value = (f"<b>point ({ds['u_m'].values[iu] * 1000:.0f}, "
@@ -94,16 +94,16 @@ class PointProbe(widgets.VBox):
                            f"{ds['v_m'].values[iv] * 1000:.0f}) mm</b>: joint angles [{angles}] "
                            f"deg; principal apparent masses {mass_text} kg")
         if self._ellipse is None:
-            ax = self._fig_e.add_subplot()
-            self._ellipse = MassEllipseDisplay.from_arm(arm, q, ax=ax)
+            self._ellipse = MassEllipseDisplay.from_arm(arm, q, figure=self._fig_e,
+                                                        region=self.panel._region or "task")
         else:
             self._ellipse._arm = arm
             self._ellipse.update(q)
         rated = np.any(np.isfinite(arm.peak_torque))
         if rated:
             if self._bars is None:
-                ax = self._fig_t.add_subplot()
-                self._bars = TorqueBarsDisplay.from_arm(arm, q, self._accel, ax=ax)
+                self._bars = TorqueBarsDisplay.from_arm(arm, q, self._accel,
+                                                        figure=self._fig_t)
             else:
                 self._bars._arm = arm
                 self._bars.update(q)

@@ -1,0 +1,303 @@
+"""Many design variants scored in one batched pass (private).
+
+V variants on P region points are evaluated as one batch of V*P configurations with
+per-configuration parameters: every ``ArmParams`` array of variant v gets a trailing batch
+axis (``stack_params``), which the core kernels accept in place of one arm's arrays
+(``core._smallmat.lift``/``pmatmul``). The configurations come from the existing inverse
+kinematics (``solve_positions``), warm-started across neighbouring variants:
+
+1. variants are taken in groups of neighbours (consecutive in the order given, which for a
+   grid sweep is the grid order); each group's middle variant (the *anchor*) is solved by
+   ``solve_positions`` warm-started from the previous anchor's solution;
+2. all variants of the group continue from the anchor's solution at once, by damped
+   least-squares steps on the whole V*P batch;
+3. every point the continuation does not settle (not converged, outside the requested
+   posture, or no anchor solution) is solved again by ``solve_positions`` exactly as the
+   per-variant path does (same seed table), so the scores equal the per-variant path's
+   (``tests/test_variants.py``) up to the solver tolerance.
+
+Arms that are not spatial three-joint arms on a three-axis task (the continuation's case)
+are solved by ``solve_positions`` per variant (closed form for planar two-joint arms, with
+the neighbour's solution as ``initial_q`` otherwise); the metrics are still batched.
+"""
+
+import dataclasses
+
+import numpy as np
+
+from ..core import _kinematics, _metrics
+from ..core._smallmat import matmul, transpose
+from ..model._arm import Arm
+from ..model._design import normalise_design
+from ..model._errors import DesignError
+from ..model._params import ArmParams, build_params
+from ..model._paths import apply_values
+from ..model._regions import Task
+from ._ik import NOT_CONVERGED, OK, OUT_OF_REACH, solve_positions
+from ._ik_status import SOLVED
+from ._ik_numeric import reach_bound as _reach_bound, solve_small as _solve_small
+from ._posture import PostureRule, accepts, posture_rule, posture_value
+from ._scores import scores_from_arrays
+
+__all__ = ["stack_params", "score_variants", "variant_params"]
+
+_SHARED = ("n", "task_axes")
+
+
+def stack_params(params_list, repeat=1):
+    """One ``ArmParams`` whose arrays carry a trailing batch axis of len(params_list) * repeat.
+
+    Variant v's arrays fill batch entries v * repeat ... (v + 1) * repeat - 1. ``n`` and the
+    task axes must be shared (they set array shapes and the task frame).
+    """
+    first = params_list[0]
+    fields = {}
+    for field in dataclasses.fields(ArmParams):
+        name = field.name
+        if name in _SHARED:
+            fields[name] = getattr(first, name)
+            continue
+        stacked = np.stack([getattr(p, name) for p in params_list], axis=-1)
+        fields[name] = np.repeat(stacked, repeat, axis=-1) if repeat > 1 else stacked
+    return ArmParams(**fields)
+
+
+def _take(params, index):
+    """Per-configuration params restricted to the batch entries ``index``."""
+    return ArmParams(**{f.name: (getattr(params, f.name) if f.name in _SHARED
+                                 else getattr(params, f.name)[..., index])
+                        for f in dataclasses.fields(ArmParams)})
+
+
+def variant_params(spec, values, payload_kg=None):
+    """(normalised spec, ArmParams) of one variant, validated like a design file.
+
+    Raises DesignError naming the path when a value is not accepted.
+    """
+    out = apply_values(spec, values)
+    if payload_kg is not None:
+        out = apply_values(out, {"tool.payload_kg": float(payload_kg)})
+    out = normalise_design(out)
+    return out, build_params(out)
+
+
+def _continue(params, q, targets, *, tolerance, max_iterations):
+    """Damped least-squares steps from warm starts, all configurations at once.
+
+    ``params`` holds one arm per configuration; ``q`` (n, N) start inside the limits; the
+    steps are clipped to the limits (as ``solve_positions`` does). Returns q and the
+    residual [m] (N,).
+    """
+    a = params.task_axes
+    low, high = params.limits[:, 0], params.limits[:, 1]
+    lengths = (np.sqrt(np.sum(params.joint_position[1:] ** 2, axis=1)).sum(axis=0)
+               + np.sqrt(np.sum(params.tool_position ** 2, axis=0)))
+    damping = 1e-3 * lengths
+    q = q.copy()
+    residual = np.full(q.shape[1], np.inf)
+    active = np.arange(q.shape[1])
+    sub, sub_targets, sub_low, sub_high, sub_damp = params, targets, low, high, damping
+    for iteration in range(max_iterations):
+        qa = q[:, active]
+        frames = _kinematics.forward(sub, qa)
+        err = a @ (sub_targets - frames.tool)
+        norm = np.sqrt(np.sum(err * err, axis=0))
+        # stop points that converged, and points whose error no longer shrinks (the rule of
+        # solve_positions: a local minimum of the distance, out of reach from this start)
+        stalled = (norm > 0.9 * residual[active]) & (norm > 1e3 * tolerance) & (iteration > 5)
+        residual[active] = np.minimum(norm, residual[active])
+        keep = (norm > tolerance) & ~stalled
+        if not np.any(keep):
+            break
+        jac = np.einsum("ki,inN->knN", a, _kinematics.jacobian(frames)[:3])
+        lam = np.minimum(sub_damp, 10.0 * norm)
+        jjt = matmul(jac, transpose(jac)) + (lam * lam) * np.eye(a.shape[0])[:, :, None]
+        step = np.sum(jac * _solve_small(jjt, err)[:, None, :], axis=0)
+        step_norm = np.sqrt(np.sum(step * step, axis=0))
+        step = step * np.minimum(1.0, 0.5 / np.maximum(step_norm, 1e-300))[None]
+        qa = np.clip(qa + step, sub_low, sub_high)
+        q[:, active] = np.where(keep, qa, q[:, active])
+        if keep.mean() < 0.5:                      # shrink the batch to the unsettled part
+            active = active[keep]
+            sub = _take(sub, keep)
+            sub_targets, sub_low, sub_high = sub_targets[:, keep], sub_low[:, keep], sub_high[:, keep]
+            sub_damp = sub_damp[keep]
+    return q, residual
+
+
+def _region_options(region, accel_mps2, payload_kg):
+    task = region if isinstance(region, Task) else None
+    if task is not None:
+        region = task.region
+        accel_mps2 = task.accel_mps2 if accel_mps2 is None else accel_mps2
+        payload_kg = task.payload_kg if payload_kg is None else payload_kg
+    accel = 0.0 if accel_mps2 is None else float(accel_mps2)
+    if not np.isfinite(accel) or accel < 0.0:
+        raise ValueError(f"`accel_mps2` must be a finite number >= 0 [m/s^2]; got {accel_mps2!r}")
+    return region, accel, payload_kg
+
+
+def score_variants(base, variants, region, *, accel_mps2=None, payload_kg=None,
+                   posture="elbow_up", group_size=50, tolerance_m=1e-9, max_iterations=40,
+                   exact=True):
+    """Scores of design variants on a region, in batched passes.
+
+    Parameters
+    ----------
+    base : Arm
+    variants : sequence of dict
+        ``{parameter path: value}`` per variant; neighbours should follow each other
+        (e.g. a grid in its grid order) for the warm starts to help.
+    region : Task or region
+        As for :func:`inertia_review.metric_map` (a Task supplies acceleration and payload).
+    accel_mps2, payload_kg, posture :
+        As for :func:`inertia_review.metric_map` ('elbow_up' or 'elbow_down').
+    group_size : int
+        Variants that continue from one anchor solution (one batched pass each).
+    exact : bool, default True
+        Solve the points the continuation leaves unsettled (inside the reach bound) again
+        with ``solve_positions``, exactly as the per-variant path does. With False they
+        count as not solved (status ``not_converged``): much faster where part of the
+        region is out of reach, and a solution missed this way can only lower the
+        reachable fraction (``benchmarks/region_speed.py`` counts how often that happens).
+
+    Returns
+    -------
+    list of (dict or None, str)
+        Per variant: its score row (``SCORE_COLUMNS``, as ``design_scores`` of its map)
+        and an error text (empty when valid; the row is None when the variant is invalid).
+    """
+    if posture not in ("elbow_up", "elbow_down"):
+        raise ValueError(f"batched variants support posture 'elbow_up' or 'elbow_down'; "
+                         f"got {posture!r}")
+    region, accel, payload = _region_options(region, accel_mps2, payload_kg)
+    spec = base.to_dict()
+    points, _ = region.sample()
+    pts = points.reshape(-1, 3)
+    count = pts.shape[0]
+    table_size = int(min(16384, max(2048, 4 * count)))
+    out = [None] * len(variants)
+    built = []
+    for index, values in enumerate(variants):
+        try:
+            vspec, params = variant_params(spec, values, payload)
+        except (DesignError, ValueError) as exc:
+            out[index] = (None, str(exc))
+            continue
+        built.append((index, vspec, params))
+    # groups of neighbours sharing the shapes and frames the batch needs
+    groups, current, key = [], [], None
+    for item in built:
+        p = item[2]
+        k = (p.n, p.task_axes.tobytes(), p.gravity.tobytes())
+        if current and (k != key or len(current) >= group_size):
+            groups.append(current)
+            current = []
+        current.append(item)
+        key = k
+    if current:
+        groups.append(current)
+    previous = None
+    for group in groups:
+        rows, previous = _score_group(group, pts, region, accel, posture, table_size,
+                                      tolerance_m, max_iterations, previous, exact)
+        for (index, _, _), row in zip(group, rows):
+            out[index] = (row, "")
+    return out
+
+
+def _solve_one(vspec, params, pts, posture, table_size, initial_q=None, tolerance_m=1e-9,
+               max_iterations=40):
+    arm = Arm(vspec, params)
+    return solve_positions(arm, pts, posture=posture, table_size=table_size,
+                           tolerance_m=tolerance_m, max_iterations=max_iterations,
+                           initial_q=initial_q)
+
+
+def _score_group(group, pts, region, accel, posture, table_size, tol, iters, previous, exact):
+    params_list = [p for _, _, p in group]
+    n, k = params_list[0].n, params_list[0].task_axes.shape[0]
+    count = pts.shape[0]
+    v_count = len(group)
+    q = np.full((v_count, count, n), np.nan)
+    status = np.zeros((v_count, count), dtype=np.int8)
+    anchor = v_count // 2
+    if n == 3 and k == 3:
+        _, aspec, aparams = group[anchor]
+        warm = None if previous is None or previous.shape != (count, n) else previous
+        sol = _solve_one(aspec, aparams, pts, posture, table_size, warm, tol, iters)
+        start = sol.q                                             # (P, n)
+        previous = np.where(np.isin(sol.status, SOLVED)[:, None], sol.q, np.nan)
+        have = np.isfinite(start[:, 0])
+        if np.any(have) and not np.all(have):   # unsolved points start from the nearest solved one
+            from scipy.spatial import cKDTree
+            _, near = cKDTree(pts[have]).query(pts[~have])
+            start = start.copy()
+            start[~have] = start[have][near]
+            have = np.ones(count, dtype=bool)
+        batched = stack_params(params_list, repeat=count)
+        rel = (np.tile(pts.T, (1, v_count)) - batched.mount_position)
+        q0 = np.tile(np.where(have[:, None], start, 0.0).T, (1, v_count))
+        q_c, residual = _continue(batched, q0, rel, tolerance=tol, max_iterations=iters)
+        rules = [posture_rule(p) for p in params_list]        # each variant's own rule
+        rule = PostureRule(rules[0].shoulder, rules[0].elbow,
+                           np.repeat([r.sign for r in rules], count))
+        pval = posture_value(rule, _kinematics.forward(batched, q_c))
+        good = (residual <= tol * 10.0) & np.tile(have, v_count)
+        good &= accepts(posture, pval)
+        good = good.reshape(v_count, count)
+        q[:] = np.moveaxis(q_c.reshape(n, v_count, count), 0, -1)
+        for v, (_, vspec, params) in enumerate(group):
+            bad = ~good[v]
+            # beyond the reach bound: out of reach whatever the seeds (as solve_positions)
+            o1 = _kinematics.forward(params, np.zeros((n, 1))).origin[0, :, 0]
+            far = np.linalg.norm(pts - params.mount_position - o1, axis=1) > _reach_bound(params)
+            q[v, bad & far] = np.nan
+            status[v, bad & far] = OUT_OF_REACH
+            bad &= ~far
+            if np.any(bad) and not exact:         # continuation only: count as not solved
+                q[v, bad] = np.nan
+                status[v, bad] = NOT_CONVERGED
+            elif np.any(bad):                     # exactly the per-variant solver there
+                sol = _solve_one(vspec, params, pts[bad], posture, table_size,
+                                 tolerance_m=tol, max_iterations=iters)
+                q[v, bad] = sol.q
+                status[v, bad] = sol.status
+    else:
+        for v, (_, vspec, params) in enumerate(group):
+            sol = _solve_one(vspec, params, pts, posture, table_size, previous, tol, iters)
+            q[v], status[v] = sol.q, sol.status
+            if n != 2 or k != 2:
+                previous = np.where(np.isin(sol.status, SOLVED)[:, None], sol.q, np.nan)
+    ok = np.isin(status, SOLVED).reshape(-1)
+    flat_q = q.reshape(-1, n)
+    rated_any = [bool(np.any(np.isfinite(p.peak_torque))) for p in params_list]
+    values = {"isotropy": np.full(ok.size, np.nan), "mass_ratio": np.full(ok.size, np.nan),
+              "min_margin": np.full(ok.size, np.nan), "limiting_joint": np.full(ok.size, -1),
+              "accel_capability": np.full(ok.size, np.nan)}
+    index = np.flatnonzero(ok)
+    if index.size:
+        owner = index // count
+        params_ok = stack_params(params_list)
+        params_ok = _take(params_ok, owner)
+        terms = _metrics.task_terms(params_ok, flat_q[index].T)
+        values["isotropy"][index] = _metrics.isotropy_index(params_ok, terms)
+        values["mass_ratio"][index] = _metrics.mass_ratio(params_ok, terms)
+        if any(rated_any):
+            head = _metrics.torque_headroom(params_ok, terms, accel)
+            values["min_margin"][index] = head.min_margin
+            values["limiting_joint"][index] = head.limiting_joint
+            values["accel_capability"][index] = _metrics.acceleration_capability(params_ok, terms)
+    rows = []
+    for v, (_, vspec, params) in enumerate(group):
+        part = slice(v * count, (v + 1) * count)
+        arrays = {"status": status[v], "isotropy": values["isotropy"][part],
+                  "mass_ratio": values["mass_ratio"][part]}
+        if rated_any[v]:
+            for name in ("min_margin", "limiting_joint", "accel_capability"):
+                arrays[name] = values[name][part]
+        arm = Arm(vspec, params)
+        attrs = {"design": vspec["name"], "cell_measure": region.cell_measure,
+                 "moving_mass_kg": arm.moving_mass}
+        rows.append(scores_from_arrays(arrays, attrs, [j["name"] for j in vspec["joints"]]))
+    return rows, previous

@@ -36,6 +36,7 @@ from ..model._regions import Task
 from ._ik import NOT_CONVERGED, OK, OUT_OF_REACH, solve_positions
 from ._ik_status import SOLVED
 from ._ik_numeric import reach_bound as _reach_bound, solve_small as _solve_small
+from ._maps import _stiffness_values
 from ._posture import PostureRule, accepts, posture_rule, posture_value
 from ._scores import scores_from_arrays
 
@@ -296,8 +297,22 @@ def _score_group(group, pts, region, accel, posture, table_size, tol, iters, pre
         if rated_any[v]:
             for name in ("min_margin", "limiting_joint", "accel_capability"):
                 arrays[name] = values[name][part]
+        arrays.update(_stiffness_arrays(params, q[v], ok[part], accel))
         arm = Arm(vspec, params)
         attrs = {"design": vspec["name"], "cell_measure": region.cell_measure,
                  "moving_mass_kg": arm.moving_mass}
         rows.append(scores_from_arrays(arrays, attrs, [j["name"] for j in vspec["joints"]]))
     return rows, previous
+
+
+def _stiffness_arrays(params, q, ok, accel):
+    """f1, sag, stiffness, payload and tool speed of one variant at its solved points (the
+    map's own kernels, batched over the points; one call per variant, as each variant has its
+    own beams and springs)."""
+    values = {}
+    if not ok.any():
+        _stiffness_values(params, None, accel, values, ok)
+        return values
+    terms = _metrics.task_terms(params, q[ok].T)
+    _stiffness_values(params, terms, accel, values, ok)
+    return values

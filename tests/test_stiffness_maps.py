@@ -140,3 +140,23 @@ def test_scores_and_datasheet_reduce_the_map(vertical_map):
     assert f"{1e3 * sheet.sag_largest_m:.4f} mm" in text and "Hz" in text
     assert "n/a (no rated motor speeds)" in text
     assert text.splitlines()[-1] == sheet.caution and "linear-elastic" in sheet.caution
+
+
+def test_sag_and_frequency_maps_plot_in_mm_and_hz_with_the_caution(vertical_map):
+    import matplotlib
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    import inertia_review.plots as irp
+
+    _, ds = vertical_map
+    sag = irp.plot_metric_map(ds, "sag")
+    assert sag.label == "tool sag [mm]"
+    assert np.nanmax(sag.mesh.get_array()) == pytest.approx(1e3 * np.nanmax(ds["sag"].values))
+    assert "linear-elastic" in sag.caution.get_text()
+    f1 = irp.plot_metric_map(ds, "first_frequency")
+    assert f1.label == "first natural frequency [Hz]"
+    assert np.nanmin(f1.mesh.get_array()) == pytest.approx(np.nanmin(ds["first_frequency"]))
+    assert f1.caution is not None
+    assert irp.plot_metric_map(ds, "isotropy").caution is None
+    plt.close("all")

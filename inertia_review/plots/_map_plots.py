@@ -4,7 +4,9 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from ..studies._cautions import STIFFNESS_CAUTION
 from ..studies._ik_status import SEAM, SOLVED
+from ..studies._maps import STIFFNESS_VARIABLES
 from . import _style
 from ._labels import variable_label
 from ._plane import grid_values, map_plane, solved_mask
@@ -37,6 +39,9 @@ class MapArtists:
     seam : matplotlib.lines.Line2D or None
         Markers on the points of a branch seam (status 'branch_seam'): neighbouring
         solutions jump there, the arm cannot keep one branch across.
+    caution : matplotlib.text.Text or None
+        The map's stiffness caution (``ds.attrs["stiffness_caution"]``), drawn for the
+        stiffness, sag, frequency, payload and tool-speed variables.
     """
 
     mesh: object
@@ -49,6 +54,7 @@ class MapArtists:
     label: str
     legend: object = None
     seam: object = None
+    caution: object = None
 
 
 def arm_points(arm, q):
@@ -264,8 +270,12 @@ def plot_metric_map(ds, metric="mass_ratio", *, ax=None, arm=None, probe=None, s
         cbar = layout.figure.colorbar(mesh, ax=ax, label=label, shrink=0.9) if colorbar else None
         leg = (layout.legend(_handles(reach, singular, (arm_line, marker, seam))) if legend
                else None)
+        caution = None
+        if metric in STIFFNESS_VARIABLES:
+            caution = layout.caution(ds.attrs.get("stiffness_caution", STIFFNESS_CAUTION))
         layout.finish()
-    return MapArtists(mesh, cbar, reach, singular, arm_line, marker, ax, label, leg, seam)
+    return MapArtists(mesh, cbar, reach, singular, arm_line, marker, ax, label, leg, seam,
+                      caution)
 
 
 @dataclass

@@ -12,7 +12,11 @@ from ..model._regions import Task
 from ._cautions import STIFFNESS_CAUTION, TORQUE_CAUTION
 from ._ik import SOLVED, STATUS, solve_positions
 
-__all__ = ["metric_map", "METRIC_ATTRS"]
+__all__ = ["metric_map", "METRIC_ATTRS", "STIFFNESS_VARIABLES"]
+
+#: map variables of the linear-elastic and rating model: shown with STIFFNESS_CAUTION
+STIFFNESS_VARIABLES = ("first_frequency", "sag", "stiffness_min", "payload_capacity",
+                       "max_tool_speed")
 
 #: units and one-line definitions of the map variables (also used for plot labels)
 METRIC_ATTRS = {
@@ -187,13 +191,11 @@ def map_arrays(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
         attrs["region_axes"] = [float(x) for row in region.axes for x in row]
     if approach is not None:
         attrs["approach"] = list(map(float, approach))
-    if any(key in values for key in _STIFFNESS_KEYS):
+    if any(key in values for key in STIFFNESS_VARIABLES):
         attrs["stiffness_caution"] = STIFFNESS_CAUTION
     values["status"] = solution.status.reshape(-1)
     return values, solution, points, grid, arm, attrs
 
-
-_STIFFNESS_KEYS = ("first_frequency", "sag", "stiffness_min", "payload_capacity", "max_tool_speed")
 
 
 def _stiffness_values(params, terms, accel, values, flat_ok):

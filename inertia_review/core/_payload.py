@@ -19,6 +19,9 @@ UNBOUNDED_PAYLOAD_KG = 1.0e6
 #: Root-finding steps after bracketing (Illinois regula falsi; converges superlinearly on
 #: the smooth demand, so 12 steps reach round-off on the demo designs).
 BISECTION_STEPS = 12
+#: The search stops early once every kept payload loads its limiting joint to within this
+#: fraction of the peak rating (demand / peak - 1 >= -EXCESS_TOL).
+EXCESS_TOL = 1.0e-10
 
 
 def _with_mass(params, terms, mass):
@@ -45,7 +48,8 @@ def payload_capacity(params, terms, accel_mps2):
     m_j = (sign(p_j) tau_j - g_0j) / p_j; the smallest over joints is the capacity (0 if a joint
     is over its rating without payload; inf if no rated joint carries payload). For a > 0 it is
     an upper bound and the capacity is found between m = 0 and that bound (or a doubled
-    bracket) by Illinois regula falsi, ``BISECTION_STEPS`` steps for all configurations at once. Payloads below
+    bracket) by Illinois regula falsi, at most ``BISECTION_STEPS`` steps for all configurations
+    at once (fewer once every point is within ``EXCESS_TOL`` of its rating). Payloads below
     the result are not each checked: where the demand is not monotone in m the result is a
     payload at which a joint reaches its rating.
     """
@@ -74,6 +78,7 @@ def payload_capacity(params, terms, accel_mps2):
 
     low = np.zeros_like(static)
     f_low = excess(low)
+    ok0 = f_low <= 0.0                        # within every rating without payload
     high = np.where(np.isfinite(static), static, 1.0)
     f_high = excess(high)
     open_top = ~np.isfinite(static) & (f_high <= 0.0)
@@ -88,20 +93,29 @@ def payload_capacity(params, terms, accel_mps2):
     # bracket ends, halving the weight of an end kept twice; plain bisection where a
     # demand is not finite (singular configurations)
     side = np.zeros(low.shape, dtype=np.int8)
+    true_low = f_low.copy()                   # f at low (f_low is weighted by the halving)
+    # a point stops (and keeps its result, whatever the rest of the batch does) once its
+    # kept payload loads a joint to within EXCESS_TOL of its rating or its bracket is closed
+    # to round-off; unbounded and unloadable points never start
+    active = ok0 & ~unbounded
     for _ in range(BISECTION_STEPS):
+        if not np.any(active):
+            break
         finite = np.isfinite(f_low) & np.isfinite(f_high) & (f_high > f_low)
         secant = low - (np.where(finite, f_low, 0.0) * (high - low)
                         / np.where(finite, f_high - np.where(finite, f_low, 0.0), 1.0))
         mid = np.where(finite, secant, 0.5 * (low + high))
         mid = np.clip(mid, low, high)
         f_mid = excess(mid)
-        good = f_mid <= 0.0
+        good = (f_mid <= 0.0) & active
+        bad = ~(f_mid <= 0.0) & active
         f_high = np.where(good & (side == 1), 0.5 * f_high, f_high)
-        f_low = np.where(~good & (side == -1), 0.5 * f_low, f_low)
+        f_low = np.where(bad & (side == -1), 0.5 * f_low, f_low)
         low, f_low = np.where(good, mid, low), np.where(good, f_mid, f_low)
-        high, f_high = np.where(good, high, mid), np.where(good, f_high, f_mid)
-        side = np.where(good, 1, -1).astype(np.int8)
-    ok0 = excess(np.zeros_like(static)) <= 0.0
+        true_low = np.where(good, f_mid, true_low)
+        high, f_high = np.where(bad, mid, high), np.where(bad, f_mid, f_high)
+        side = np.where(good, 1, np.where(bad, -1, side)).astype(np.int8)
+        active &= ~((true_low >= -EXCESS_TOL) | (high - low <= 4.0 * np.finfo(float).eps * high))
     return np.where(~ok0, 0.0, np.where(unbounded, np.inf, low))
 
 

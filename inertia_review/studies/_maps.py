@@ -66,7 +66,8 @@ def _attrs(name):
 
 def metric_map(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
                posture="elbow_up", reference_deg=None, tool_angle_deg=None, elbow_joint=None,
-               near_singular_threshold=0.01, **solver_options):
+               near_singular_threshold=0.01, stiffness=True,
+               **solver_options):
     """Every metric at every point of a task region, as an ``xarray.Dataset``.
 
     Parameters
@@ -81,6 +82,12 @@ def metric_map(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
         Direction for ``mass_along_approach`` (projected into the task span and normalised).
     payload_kg : float, optional
         Replaces the design's payload for this map.
+    near_singular_threshold : float, default 0.01
+        Isotropy index below which a point is flagged ``near_singular``.
+    stiffness : bool, default True
+        Also compute ``first_frequency``, ``sag``, ``stiffness_min`` (designs with an elastic
+        joint or link), ``payload_capacity`` (rated designs) and ``max_tool_speed`` (every
+        joint with a rated speed); they carry ``attrs["stiffness_caution"]``.
     posture, reference_deg, tool_angle_deg, elbow_joint, **solver_options
         Passed to :func:`inertia_review.solve_positions`.
 
@@ -98,13 +105,15 @@ def metric_map(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
     values, solution, points, grid, arm, attrs = map_arrays(
         arm, region, accel_mps2=accel_mps2, approach=approach, payload_kg=payload_kg,
         posture=posture, reference_deg=reference_deg, tool_angle_deg=tool_angle_deg,
-        elbow_joint=elbow_joint, near_singular_threshold=near_singular_threshold, **solver_options)
+        elbow_joint=elbow_joint, near_singular_threshold=near_singular_threshold,
+        stiffness=stiffness, **solver_options)
     return _to_dataset(xr, arm, values, solution, points, grid, attrs)
 
 
 def map_arrays(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
                posture="elbow_up", reference_deg=None, tool_angle_deg=None, elbow_joint=None,
-               near_singular_threshold=0.01, **solver_options):
+               near_singular_threshold=0.01, stiffness=True,
+               **solver_options):
     """The arrays behind :func:`metric_map` (flat over the grid), without building a Dataset."""
     task = region if isinstance(region, Task) else None
     if task is not None:
@@ -169,8 +178,9 @@ def map_arrays(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
             values["min_margin"][flat_ok] = head.min_margin
             values["limiting_joint"][flat_ok] = head.limiting_joint
             values["accel_capability"][flat_ok] = _metrics.acceleration_capability(params, terms)
-        _stiffness_values(params, terms, accel, values, flat_ok)
-    else:
+        if stiffness:
+            _stiffness_values(params, terms, accel, values, flat_ok)
+    elif stiffness:
         _stiffness_values(params, None, accel, values, flat_ok)
     if approach is None:
         del values["mass_along_approach"]

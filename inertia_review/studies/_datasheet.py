@@ -26,8 +26,9 @@ class Datasheet:
     reach_m : float
         Largest distance [m] from the first joint's origin to any solved region point.
     reach_limit_m : float
-        Largest distance [m] the tool point can be from the first joint's origin: the sum of
-        the fixed distances between consecutive joint origins and of the tool offset.
+        Upper bound [m] on the tool point's distance from the first joint's origin: the sum of
+        the fixed distances between consecutive joint origins and of the tool offset (met only
+        where the chain can lie straight).
     tool_speed_max_mps : float
         Largest tool speed [m/s] over the region with every joint within its rated speed.
     f1_lowest_hz : float
@@ -60,7 +61,7 @@ class Datasheet:
             "rated payload (worst point): "
             + fmt(self.payload_rated_kg, 1.0, ".3f", "kg", "n/a (no peak torque ratings)"),
             f"reach in the region: {fmt(self.reach_m, 1e3, '.1f', 'mm', 'n/a')}"
-            f" (arm's limit {fmt(self.reach_limit_m, 1e3, '.1f', 'mm', 'n/a')})",
+            f" (bound from the link lengths {fmt(self.reach_limit_m, 1e3, '.1f', 'mm', 'n/a')})",
             "largest tool speed: "
             + fmt(self.tool_speed_max_mps, 1.0, ".3f", "m/s", "n/a (no rated motor speeds)"),
             "lowest first natural frequency: "

@@ -96,6 +96,10 @@ def main(quick=False):
           f"max |gci diff| {np.nanmax(np.abs(gci_fast - ref)):.1e}; reachable fraction lower in "
           f"{int(np.sum(reach_fast < reach_ref - 1e-12))} of {count} variants)")
     per_batched = t_fast / count
+    t_rigid, _ = timed(lambda: ir.score_variants(arm, values, small, accel_mps2=2.0, exact=False,
+                                                 stiffness=False))
+    print(f"batched variants, continuation only, without f1/sag/payload: {t_rigid:.2f} s "
+          f"(f1, sag and payload cost x{t_fast / t_rigid:.2f} this)")
 
     from dask.distributed import Client, LocalCluster
     dask_shape = (4, 5, 2) if quick else (5, 8, 5)

@@ -140,7 +140,7 @@ def _region_options(region, accel_mps2, payload_kg):
 
 def score_variants(base, variants, region, *, accel_mps2=None, payload_kg=None,
                    posture="elbow_up", group_size=50, tolerance_m=1e-9, max_iterations=40,
-                   exact=True):
+                   exact=True, stiffness=True):
     """Scores of design variants on a region, in batched passes.
 
     Parameters
@@ -161,6 +161,9 @@ def score_variants(base, variants, region, *, accel_mps2=None, payload_kg=None,
         count as not solved (status ``not_converged``): much faster where part of the
         region is out of reach, and a solution missed this way can only lower the
         reachable fraction (``benchmarks/region_speed.py`` counts how often that happens).
+    stiffness : bool, default True
+        Also score ``f1_lowest_hz``, ``sag_largest_m`` and ``payload_rated_kg`` (as
+        ``metric_map(stiffness=True)``); with False they are NaN and the pass is faster.
 
     Returns
     -------
@@ -201,7 +204,7 @@ def score_variants(base, variants, region, *, accel_mps2=None, payload_kg=None,
     previous = None
     for group in groups:
         rows, previous = _score_group(group, pts, region, accel, posture, table_size,
-                                      tolerance_m, max_iterations, previous, exact)
+                                      tolerance_m, max_iterations, previous, exact, stiffness)
         for (index, _, _), row in zip(group, rows):
             out[index] = (row, "")
     return out
@@ -215,7 +218,8 @@ def _solve_one(vspec, params, pts, posture, table_size, initial_q=None, toleranc
                            initial_q=initial_q)
 
 
-def _score_group(group, pts, region, accel, posture, table_size, tol, iters, previous, exact):
+def _score_group(group, pts, region, accel, posture, table_size, tol, iters, previous, exact,
+                 stiffness=True):
     params_list = [p for _, _, p in group]
     n, k = params_list[0].n, params_list[0].task_axes.shape[0]
     count = pts.shape[0]
@@ -297,7 +301,8 @@ def _score_group(group, pts, region, accel, posture, table_size, tol, iters, pre
         if rated_any[v]:
             for name in ("min_margin", "limiting_joint", "accel_capability"):
                 arrays[name] = values[name][part]
-        arrays.update(_stiffness_arrays(params, q[v], ok[part], accel))
+        if stiffness:
+            arrays.update(_stiffness_arrays(params, q[v], ok[part], accel))
         arm = Arm(vspec, params)
         attrs = {"design": vspec["name"], "cell_measure": region.cell_measure,
                  "moving_mass_kg": arm.moving_mass}

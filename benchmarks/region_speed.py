@@ -1,7 +1,10 @@
 """Speed of whole-region work: a 100 x 100 map, a 1,000-variant sweep, and dask scaling.
 
-1. A 100 x 100 map of every metric for the 3-joint demo arm (designs/kestrel_a.toml),
-   inverse kinematics included (target: under 0.3 s on one core).
+1. A 100 x 100 map of every inertia and torque metric for the 3-joint demo arm
+   (designs/kestrel_a.toml), inverse kinematics included (target: under 0.3 s on one core);
+   beside it, in the same run, the map with the stiffness variables too (first natural
+   frequency, sag, lowest tool stiffness, payload capacity; target: under 0.5 s), and the
+   f1 and sag kernels alone on the map's solved configurations, each as a ratio to the map.
 2. A sweep of 1,000 variants (link ratio x mount tilt x payload) scored on a 20 x 20
    region, on one core (target: under 20 s).
 3. The same kind of sweep (fewer variants) on a dask.distributed LocalCluster with one and
@@ -47,12 +50,24 @@ def main(quick=False):
     big = ir.Rectangle((0.38, 0.05, 0.20), ((1.0, 0.0, 0.0), (0.0, 0.0, 1.0)), (0.495, 0.495), 0.005)
     small = ir.Rectangle((0.38, 0.05, 0.20), ((1.0, 0.0, 0.0), (0.0, 0.0, 1.0)), (0.38, 0.38), 0.02)
     ir.metric_map(arm, small)                               # imports and caches warm
-    times = [timed(lambda: ir.metric_map(arm, big, accel_mps2=2.0, approach=(0, 0, -1)))[0]
-             for _ in range(5)]
+    times = [timed(lambda: ir.metric_map(arm, big, accel_mps2=2.0, approach=(0, 0, -1),
+                                         stiffness=False))[0] for _ in range(5)]
     ds = ir.metric_map(arm, big)
     t_map = min(times)
-    print(f"map: {ds.sizes['v_m']} x {ds.sizes['u_m']} points, every metric, IK included: "
-          f"{t_map:.3f} s (best of 5; {int(ds.status.isin(ir.SOLVED).sum())} points solved)")
+    print(f"map: {ds.sizes['v_m']} x {ds.sizes['u_m']} points, every inertia and torque metric, "
+          f"IK included: {t_map:.3f} s (best of 5; {int(ds.status.isin(ir.SOLVED).sum())} "
+          f"points solved)")
+    t_stiff_map = min(timed(lambda: ir.metric_map(arm, big, accel_mps2=2.0, approach=(0, 0, -1)))[0]
+                      for _ in range(5))
+    q = ds["q"].values.reshape(-1, ds.sizes["joint"])
+    q = q[np.isfinite(q[:, 0])]
+    t_f1 = min(timed(lambda: ir.natural_frequencies(arm, q))[0] for _ in range(5))
+    t_sag = min(timed(lambda: ir.tool_deflection(arm, q))[0] for _ in range(5))
+    t_payload = min(timed(lambda: ir.payload_capacity(arm, q, 2.0))[0] for _ in range(3))
+    print(f"map with f1, sag, tool stiffness and payload capacity: {t_stiff_map:.3f} s "
+          f"(x{t_stiff_map / t_map:.2f} the map above); kernels alone on the {q.shape[0]} solved "
+          f"configurations: f1 {t_f1:.3f} s (x{t_f1 / t_map:.2f}), sag {t_sag:.3f} s "
+          f"(x{t_sag / t_map:.2f}), payload capacity {t_payload:.3f} s (x{t_payload / t_map:.2f})")
 
     n_ratio, n_tilt, n_payload = (5, 4, 2) if quick else (10, 10, 10)
     count = n_ratio * n_tilt * n_payload
@@ -81,6 +96,10 @@ def main(quick=False):
           f"max |gci diff| {np.nanmax(np.abs(gci_fast - ref)):.1e}; reachable fraction lower in "
           f"{int(np.sum(reach_fast < reach_ref - 1e-12))} of {count} variants)")
     per_batched = t_fast / count
+    t_rigid, _ = timed(lambda: ir.score_variants(arm, values, small, accel_mps2=2.0, exact=False,
+                                                 stiffness=False))
+    print(f"batched variants, continuation only, without f1/sag/payload: {t_rigid:.2f} s "
+          f"(f1, sag and payload cost x{t_fast / t_rigid:.2f} this)")
 
     from dask.distributed import Client, LocalCluster
     dask_shape = (4, 5, 2) if quick else (5, 8, 5)
@@ -99,6 +118,7 @@ def main(quick=False):
           f"speed-up x{speedup:.2f} (results identical: {same})")
 
     checks = [("100 x 100 map < 0.3 s", t_map < 0.3),
+              ("100 x 100 map with f1 and sag (and payload) < 0.5 s", t_stiff_map < 0.5),
               ("1,000-variant sweep < 20 s on one core"
                + (" (extrapolated from --quick)" if quick else ""), per * 1000 < 20),
               ("1,000 batched variants <= 3 s on one core (continuation only)"
@@ -107,7 +127,8 @@ def main(quick=False):
     print()
     for text, ok in checks:
         print(f"  [{'met' if ok else 'MISSED'}] {text}")
-    print(f"\nsummary: map {t_map:.3f} s; sweep {per * 1000:.1f} s per 1000 variants; dask x{speedup:.2f}; "
+    print(f"\nsummary: map {t_map:.3f} s; with f1/sag/payload {t_stiff_map:.3f} s; "
+          f"sweep {per * 1000:.1f} s per 1000 variants; dask x{speedup:.2f}; "
           f"targets met {sum(ok for _, ok in checks)}/{len(checks)}")
 
 

@@ -18,6 +18,17 @@ from .core._api import (
                         principal_masses,
                         torque_headroom,
 )
+from .core._api_stiffness import (
+                        NaturalFrequencies,
+                        PrincipalStiffnesses,
+                        max_tool_speed,
+                        natural_frequencies,
+                        payload_capacity,
+                        principal_stiffnesses,
+                        tool_compliance,
+                        tool_deflection,
+                        tool_stiffness,
+)
 from .core._metrics import PrincipalMasses, TorqueHeadroom
 from .model._arm import Arm
 from .model._builders import planar_chain, yaw_pitch_pitch_arm
@@ -29,8 +40,11 @@ from .model._errors import DesignError
 from .model._materials import (
                         MATERIAL_SOURCES,
                         MATERIALS,
+                        MODULI,
+                        MODULUS_SOURCES,
                         TubeProperties,
                         tube_properties,
+                        tube_section_stiffness,
 )
 from .model._paths import parameter_paths
 from .model._regions import (
@@ -55,6 +69,7 @@ from .studies._contact_model import (
                         transient_speed_limit,
 )
 from .studies._cycle_review import CycleTorques, cycle_torques
+from .studies._datasheet import Datasheet, datasheet
 from .studies._ik import SOLVED, STATUS, PositionSolution, solve_positions
 from .studies._map_io import load_results, save_results
 from .studies._maps import METRIC_ATTRS, metric_map
@@ -74,11 +89,15 @@ __all__ = [
     "demo_designs", "demo_design", "demo_design_path",
     # builders and link sizing
     "planar_chain", "yaw_pitch_pitch_arm", "tube_properties", "TubeProperties",
-    "MATERIALS", "MATERIAL_SOURCES",
+    "MATERIALS", "MATERIAL_SOURCES", "MODULI", "MODULUS_SOURCES", "tube_section_stiffness",
     # metrics
     "apparent_mass", "principal_masses", "mass_ratio", "mass_along", "isotropy_index",
     "near_singular", "manipulability", "torque_headroom", "acceleration_capability",
     "acceleration_along", "evaluate_metrics",
+    # stiffness, sag, vibration, payload and speed ratings (linear elastic estimates)
+    "tool_compliance", "tool_stiffness", "principal_stiffnesses", "tool_deflection",
+    "natural_frequencies", "payload_capacity", "max_tool_speed", "datasheet", "Datasheet",
+    "NaturalFrequencies", "PrincipalStiffnesses",
     # task regions, inverse kinematics, maps, scores and sweeps
     "Rectangle", "Box", "PointSet", "Task", "region_from_dict", "task_from_dict",
     "solve_positions", "PositionSolution", "STATUS", "SOLVED",

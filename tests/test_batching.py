@@ -30,22 +30,26 @@ def spatial_design():
              "link": {"mass_kg": 3.0, "com_m": [0.0, 0.02, 0.1],
                       "inertia_kgm2": [0.02, 0.02, 0.01, 0.001, 0.0, 0.0]},
              "actuator": {"peak_torque_Nm": 120.0, "continuous_torque_Nm": 50.0,
-                          "gear_ratio": 100.0, "rotor_inertia_kgm2": 2e-5}},
+                          "gear_ratio": 100.0, "rotor_inertia_kgm2": 2e-5,
+                          "stiffness_Nm_per_rad": 4.0e4, "rated_speed_rpm": 3000.0}},
             {"xyz_m": [0.0, 0.05, 0.15], "rpy_deg": [90.0, 0.0, 0.0], "axis": [0.0, 0.0, 1.0],
              "link": {"tube": {"length_m": 0.45, "outer_diameter_m": 0.06, "wall_m": 0.003,
                                "material": "aluminium_6061"},
                       "point_masses": [{"mass_kg": 0.8, "xyz_m": [0.45, 0.0, 0.0]}]},
              "actuator": {"peak_torque_Nm": 90.0, "continuous_torque_Nm": 35.0,
-                          "gear_ratio": 120.0, "rotor_inertia_kgm2": 1e-5}},
+                          "gear_ratio": 120.0, "rotor_inertia_kgm2": 1e-5,
+                          "rated_speed_rpm": 3000.0}},
             {"xyz_m": [0.45, 0.0, 0.0], "axis": [0.0, 0.1, 1.0],
              "link": {"mass_kg": 1.2, "com_m": [0.15, 0.0, 0.01],
                       "inertia_kgm2": [0.0008, 0.009, 0.009, 0.0, 0.0002, 0.0]},
-             "actuator": {"peak_torque_Nm": 40.0, "continuous_torque_Nm": 15.0}},
+             "actuator": {"peak_torque_Nm": 40.0, "continuous_torque_Nm": 15.0,
+                          "rated_speed_rpm": 60.0}},
             {"xyz_m": [0.3, 0.0, 0.0], "rpy_deg": [0.0, 90.0, 0.0], "axis": [0.0, 0.0, 1.0],
              "link": {"mass_kg": 0.4, "com_m": [0.0, 0.0, 0.03],
                       "inertia_kgm2": [0.0004, 0.0004, 0.0002, 0.0, 0.0, 0.0]},
              "actuator": {"peak_torque_Nm": 10.0, "continuous_torque_Nm": 4.0,
-                          "gear_ratio": 50.0, "rotor_inertia_kgm2": 5e-6}},
+                          "gear_ratio": 50.0, "rotor_inertia_kgm2": 5e-6,
+                          "rated_speed_rpm": 4000.0}},
         ],
         "tool": {"xyz_m": [0.0, 0.02, 0.1], "payload_kg": 0.7},
     }
@@ -61,11 +65,14 @@ def planar_design():
         "mount": {"rpy_deg": [30.0, 0.0, 15.0]},
         "joints": [
             {"axis": [0.0, 0.0, 1.0], "link": link(2.0, 0.5),
-             "actuator": {"peak_torque_Nm": 80.0, "continuous_torque_Nm": 30.0}},
+             "actuator": {"peak_torque_Nm": 80.0, "continuous_torque_Nm": 30.0,
+                          "stiffness_Nm_per_rad": 2.0e4, "rated_speed_rpm": 60.0}},
             {"xyz_m": [0.5, 0.0, 0.0], "axis": [0.0, 0.0, 1.0], "link": link(1.5, 0.4),
              "actuator": {"peak_torque_Nm": 40.0, "continuous_torque_Nm": 15.0,
-                          "gear_ratio": 80.0, "rotor_inertia_kgm2": 1e-5}},
-            {"xyz_m": [0.4, 0.0, 0.0], "axis": [0.0, 0.0, -1.0], "link": link(0.5, 0.2)},
+                          "gear_ratio": 80.0, "rotor_inertia_kgm2": 1e-5,
+                          "stiffness_Nm_per_rad": 8.0e3, "rated_speed_rpm": 4000.0}},
+            {"xyz_m": [0.4, 0.0, 0.0], "axis": [0.0, 0.0, -1.0], "link": link(0.5, 0.2),
+             "actuator": {"rated_speed_rpm": 90.0}},  # no torque rating, no stiffness: rigid
         ],
         "tool": {"xyz_m": [0.2, 0.0, 0.0], "payload_kg": 0.3},
     }
@@ -132,6 +139,31 @@ FUNCS = {
     "acceleration_along(no gravity)": (
         lambda a, q, qd, qdd, u: ir.acceleration_along(a, q, u, hold_gravity=False), lambda a: (), "f"),
     "acceleration_capability": (lambda a, q, qd, qdd, u: ir.acceleration_capability(a, q), lambda a: (), "f"),
+    # stiffness, sag, vibration, payload, speed (both battery designs have elastic parts)
+    "tool_compliance": (lambda a, q, qd, qdd, u: ir.tool_compliance(a, q),
+                        lambda a: (len(a.task_axes),) * 2, "f"),
+    "tool_stiffness": (lambda a, q, qd, qdd, u: ir.tool_stiffness(a, q),
+                       lambda a: (len(a.task_axes),) * 2, "f"),
+    "principal_stiffnesses.stiffnesses": (
+        lambda a, q, qd, qdd, u: ir.principal_stiffnesses(a, q).stiffnesses,
+        lambda a: (len(a.task_axes),), "f"),
+    "principal_stiffnesses.directions": (
+        lambda a, q, qd, qdd, u: ir.principal_stiffnesses(a, q).directions,
+        lambda a: (3, len(a.task_axes)), "dir"),
+    "tool_deflection": (lambda a, q, qd, qdd, u: ir.tool_deflection(a, q), lambda a: (3,), "f"),
+    "natural_frequencies.frequencies_hz": (
+        lambda a, q, qd, qdd, u: ir.natural_frequencies(a, q).frequencies_hz,
+        lambda a: (a.dof,), "f"),
+    "natural_frequencies.mode_shapes": (
+        lambda a, q, qd, qdd, u: ir.natural_frequencies(a, q).mode_shapes,
+        lambda a: (a.dof, a.dof), "dir"),
+    "natural_frequencies.first_mode_tool_direction": (
+        lambda a, q, qd, qdd, u: ir.natural_frequencies(a, q).first_mode_tool_direction,
+        lambda a: (3,), "f"),
+    "payload_capacity": (lambda a, q, qd, qdd, u: ir.payload_capacity(a, q), lambda a: (), "f"),
+    "payload_capacity(2 m/s^2)": (lambda a, q, qd, qdd, u: ir.payload_capacity(a, q, 2.0),
+                                  lambda a: (), "f"),
+    "max_tool_speed": (lambda a, q, qd, qdd, u: ir.max_tool_speed(a, q), lambda a: (), "f"),
 }
 
 

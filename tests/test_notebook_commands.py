@@ -37,8 +37,9 @@ from inertia_review.review._cli import main
 DESIGNS = Path(__file__).resolve().parent.parent / "designs"
 
 # decimals the baseline table promises (its docstring): dimensionless scores 4,
-# accelerations 3, masses 4
-DECIMALS = {"accel_capability_min": 3, "moving_mass_kg": 4}
+# accelerations 3, masses 4, frequencies 2, sag 7, payloads 3
+DECIMALS = {"accel_capability_min": 3, "moving_mass_kg": 4, "f1_lowest_hz": 2,
+            "sag_largest_m": 7, "payload_rated_kg": 3}
 
 
 @pytest.fixture(scope="module")

@@ -1,6 +1,9 @@
 """Write the review notebooks' cells (sources only); execute them with
 ``inertia-review rebaseline notebooks/NAME.ipynb`` to store their outputs.
 
+``python tools/build_notebooks.py [NAME.ipynb ...]`` writes the named notebooks only (all
+when none is named).
+
 Kept in the repository so that the notebooks' text has one editable source.
 """
 
@@ -250,12 +253,65 @@ def design_search():
     ]
 
 
-def main():
+STIFFNESS_MD = (
+    "> **Caution (stiffness and payload).** Stiffness, sag, natural frequencies and payload "
+    "ratings are design-stage estimates from a linear-elastic model (joint springs and straight "
+    "Euler-Bernoulli link beams; no joint play or backlash, no bearing, housing or flange "
+    "compliance, no control loop, no structure beyond the model, small deflections). Measure "
+    "stiffness and vibration on the built arm. They are not a validation: the applicable "
+    "standards (ISO 12100, ISO 10218-1/-2), local regulations and qualified, licensed "
+    "engineering practice decide.")
+
+
+def stiffness_and_payload():
+    return [
+        new_markdown_cell("# Stiffness, sag, first natural frequency and payload\n\n" + SCENARIO_MD +
+                          "\n\nThe aluminium tube links bend and twist as Euler-Bernoulli beams "
+                          "(E and G from the material table); joints with a "
+                          "`stiffness_Nm_per_rad` are torsional springs. Over each design's task "
+                          "region the map holds the static tool sag under gravity, the first "
+                          "natural frequency of K phi = omega^2 M(q) phi (link compliance lumped "
+                          "into joint springs) and the payload each point can carry within the "
+                          "peak torque ratings at the task's acceleration.\n\n" + STIFFNESS_MD),
+        new_code_cell("import inertia_review as ir\nfrom inertia_review import plots\n\n"
+                      "names = [\"kestrel_a\", \"kestrel_b\", \"kestrel_c\"]\n"
+                      "arms = [ir.demo_design(n) for n in names]\n"
+                      "maps = [ir.metric_map(a, a.task) for a in arms]"),
+        new_markdown_cell("## Datasheets over the task region (accepted values)\n\nThe demo designs "
+                          "give no rated motor speeds, so their largest tool speed is n/a."),
+        new_code_cell("# NBVAL_CHECK_OUTPUT\nfor a, ds in zip(arms, maps):\n"
+                      "    print(ir.datasheet(a, ds))\n    print()"),
+        new_code_cell("# NBVAL_CHECK_OUTPUT\nprint(ir.baseline_table(maps, columns=[\"f1_lowest_hz\", "
+                      "\"sag_largest_m\", \"payload_rated_kg\"]))"),
+        new_markdown_cell("## Tool speed from rated motor speeds\n\nFor illustration only, kestrel_a "
+                          "with invented rated motor speeds of 3000 rpm on every joint "
+                          "(joint speed = rated motor speed / gear ratio)."),
+        new_code_cell("# NBVAL_CHECK_OUTPUT\nspec = arms[0].to_dict()\n"
+                      "for joint in spec[\"joints\"]:\n"
+                      "    joint[\"actuator\"][\"rated_speed_rpm\"] = 3000.0\n"
+                      "fast = ir.Arm.from_dict(spec)\n"
+                      "sheet = ir.datasheet(fast)\n"
+                      "print(f\"largest tool speed {sheet.tool_speed_max_mps:.3f} m/s\")"),
+        new_markdown_cell("## Maps"),
+        new_code_cell("plots.plot_metric_map(maps[0], \"first_frequency\");"),
+        new_code_cell("plots.plot_metric_map(maps[0], \"sag\");"),
+        new_code_cell("plots.plot_metric_map(maps[0], \"payload_capacity\");"),
+        new_code_cell("plots.plot_small_multiples(maps, \"sag\");"),
+    ]
+
+
+def main(only=()):
     books = {"01_quick_review.ipynb": quick_review(), "02_compare_alternatives.ipynb": compare(),
              "03_sweep_study.ipynb": sweep_study(), "04_baselines.ipynb": baselines(),
              "05_actuators_and_contact.ipynb": sizing_and_contact(),
+             "06_stiffness_and_payload.ipynb": stiffness_and_payload(),
              "07_design_search.ipynb": design_search()}
+    unknown = [name for name in only if name not in books]
+    if unknown:
+        raise SystemExit(f"unknown notebook {unknown[0]!r}; known: {', '.join(books)}")
     for name, cells in books.items():
+        if only and name not in only:
+            continue
         nb = new_notebook(cells=cells, metadata={
             "kernelspec": {"display_name": "Python 3", "language": "python", "name": "python3"},
             "language_info": {"name": "python"}})
@@ -264,4 +320,6 @@ def main():
 
 
 if __name__ == "__main__":
-    main()
+    import sys
+
+    main(sys.argv[1:])           # names given: write only those notebooks

@@ -41,6 +41,12 @@ ACTUATOR_KEYS = ("peak_torque_Nm", "continuous_torque_Nm", "gear_ratio", "rotor_
 TOOL_KEYS = ("xyz_m", "payload_kg", "payload_inertia_kgm2")
 TASK_KEYS = ("axes", "region", "accel_mps2", "payload_kg", "approach")
 
+# --- stiffness keys (joint springs and link beams; see the stiffness schema block below) ----------
+ACTUATOR_STIFFNESS_KEYS = ("stiffness_Nm_per_rad",)
+LINK_STIFFNESS_KEYS = ("bending_stiffness_Nm2", "torsional_stiffness_Nm2")
+ACTUATOR_KEYS = ACTUATOR_KEYS + ACTUATOR_STIFFNESS_KEYS
+LINK_KEYS = LINK_KEYS + LINK_STIFFNESS_KEYS
+
 _ZERO3 = (0.0, 0.0, 0.0)
 _ZERO6 = (0.0,) * 6
 _REL_TOL = 1e-9
@@ -118,6 +124,7 @@ def _normalise_link(problems, link, path):
             "mass_kg": get_number(problems, pm, "mass_kg", pm_path, low=0.0),
             "xyz_m": list_or_none(get_vector(problems, pm, "xyz_m", pm_path, 3)),
         })
+    _normalise_link_stiffness(problems, link, path, out)
     return out
 
 
@@ -135,7 +142,27 @@ def _normalise_actuator(problems, act, path):
     if peak is not None and cont is not None and cont > peak:
         problems.add(join(path, "continuous_torque_Nm"),
                      f"must not exceed peak_torque_Nm ({peak:g}); got {cont:g}")
+    _normalise_actuator_stiffness(problems, act, path, out)
     return out
+
+
+# --- stiffness schema (optional keys; absent keys stay absent so files round-trip) --------
+def _normalise_actuator_stiffness(problems, act, path, out):
+    """``stiffness_Nm_per_rad``: joint torsional stiffness (gearbox and joint) > 0 [N m/rad]."""
+    if "stiffness_Nm_per_rad" in act:
+        out["stiffness_Nm_per_rad"] = get_number(problems, act, "stiffness_Nm_per_rad", path,
+                                                 low=0.0, low_open=True)
+
+
+def _normalise_link_stiffness(problems, link, path, out):
+    """A link's own bending (EI) and torsional (GJ) stiffness [N m^2], both or neither, > 0."""
+    given = [key for key in LINK_STIFFNESS_KEYS if key in link]
+    for key in given:
+        out[key] = get_number(problems, link, key, path, low=0.0, low_open=True)
+    if len(given) == 1:
+        missing = next(key for key in LINK_STIFFNESS_KEYS if key not in link)
+        problems.add(join(path, missing), f"required with {given[0]} (give both link stiffness "
+                                          "values, or neither for a tube's own or a rigid link)")
 
 
 def list_or_none(vector):

@@ -7,7 +7,8 @@ from typing import NamedTuple
 
 import numpy as np
 
-__all__ = ["MATERIALS", "MATERIAL_SOURCES", "TubeProperties", "tube_properties"]
+__all__ = ["MATERIALS", "MATERIAL_SOURCES", "TubeProperties", "tube_properties",
+           "MODULI", "MODULUS_SOURCES", "tube_section_stiffness"]
 
 #: Density [kg/m^3] of the shipped materials.
 MATERIALS = {
@@ -70,3 +71,47 @@ def tube_properties(length_m, outer_diameter_m, wall_m, density_kgm3):
     axial = mass * (outer**2 + inner**2) / 2.0
     transverse = mass * ((outer**2 + inner**2) / 4.0 + length**2 / 12.0)
     return TubeProperties(mass, (length / 2.0, 0.0, 0.0), (axial, transverse, transverse, 0.0, 0.0, 0.0))
+
+
+# --- elastic moduli (stiffness of tube links) -------------------------------------------
+#: Young's modulus E and shear modulus G [Pa] of the shipped materials, linear elastic,
+#: room temperature. Status as in references.md: [C] confirmed, [D] derived, [M] from memory.
+MODULI = {
+    # Aluminum Association typical data for 6061-T6 (as in ASM Handbook vol. 2): E = 68.9 GPa
+    # (10.0 Msi), G = 26 GPa (3.77 Msi). Status [M]: values quoted from memory.
+    "aluminium_6061": (68.9e9, 26.0e9),
+    # EN 1993-1-1:2005 sec. 3.2.6: E = 210 000 N/mm^2 [C], nu = 0.3 and
+    # G = E / (2 (1 + nu)) ~= 81 000 N/mm^2 (80 769 exactly from E and nu) [D].
+    "structural_steel": (210.0e9, 210.0e9 / 2.6),
+    # Unidirectional carbon fibre/epoxy, Vf = 0.6, fibres along the tube: longitudinal
+    # modulus 142 GPa (Callister & Rethwisch, Appendix B, Table B.2) [M]; in-plane shear
+    # modulus about 5 GPa, a typical unidirectional value [M], no source checked. Laminated
+    # tubes differ widely with the layup: give the link's own stiffness values instead.
+    "cfrp": (142.0e9, 5.0e9),
+}
+
+#: Where each modulus comes from, with its status.
+MODULUS_SOURCES = {
+    "aluminium_6061": "Aluminum Association typical data, 6061-T6: E 68.9 GPa, G 26 GPa [M]",
+    "structural_steel": "EN 1993-1-1:2005 sec. 3.2.6: E 210 GPa [C], nu 0.3, G = E/(2(1+nu)) [D]",
+    "cfrp": "Callister & Rethwisch Table B.2, longitudinal E 142 GPa [M]; G 5 GPa typical [M]",
+}
+
+
+def tube_section_stiffness(outer_diameter_m, wall_m, youngs_Pa, shear_Pa):
+    """Bending stiffness EI and torsional stiffness GJ of a round tube section [N m^2].
+
+    I = pi (D^4 - d^4) / 64 (second moment of area about a diameter) and J = 2 I (polar
+    moment; for a circular section the torsion constant equals it), d = D - 2 t:
+    Gere, Mechanics of Materials, 5th ed., Appendix D (circle and circular ring) and
+    sec. 3.3 (torsion of circular tubes); Roark's Formulas for Stress and Strain, 7th ed.,
+    Table A.1 (hollow circle) and Table 10.1 case 1 [M].
+
+    Returns
+    -------
+    (EI, GJ) : tuple of float
+    """
+    outer = float(outer_diameter_m)
+    inner = outer - 2.0 * float(wall_m)
+    second_moment = np.pi * (outer**4 - inner**4) / 64.0
+    return float(youngs_Pa) * second_moment, float(shear_Pa) * 2.0 * second_moment

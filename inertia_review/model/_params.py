@@ -9,7 +9,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ._materials import MATERIALS, tube_properties
+from ._materials import MATERIALS, MODULI, tube_properties, tube_section_stiffness
 from ._rotation import inertia_tensor, rpy_matrix, skew
 
 __all__ = ["ArmParams", "build_params", "default_task_axes", "link_body"]
@@ -39,6 +39,16 @@ class ArmParams:
     continuous_torque: np.ndarray  # (n,) [N m], NaN where not rated
     gear_ratio: np.ndarray       # (n,)
     rated_speed: np.ndarray      # (n,) [rad/s] motor side, NaN where not given
+    # --- stiffness (see stiffness_arrays): inf stiffness = rigid
+    joint_stiffness: np.ndarray  # (n,) [N m/rad] joint torsional stiffness, inf where rigid
+    beam_dir: np.ndarray         # (n, 3) unit beam axis of link i in its frame (from its origin)
+    beam_length: np.ndarray      # (n,) [m] flexible span of link i (0: none)
+    beam_bending: np.ndarray     # (n,) [N m^2] EI of link i's beam, inf where rigid
+    beam_torsion: np.ndarray     # (n,) [N m^2] GJ of link i's beam, inf where rigid
+    beam_self_mass: np.ndarray   # (n,) [kg] mass spread uniformly along the beam (a tube's own)
+    load_mass: np.ndarray        # (n, P) [kg] the rest of body i as point loads (0-padded)
+    load_position: np.ndarray    # (n, P, 3) [m] their positions in link i's frame
+    payload_mass: float          # [kg] the design's payload (a point mass at the tool point)
 
 
 def _combine(parts):
@@ -148,7 +158,74 @@ def build_params(spec):
         gear_ratio=gear,
         rated_speed=rating("rated_speed_rpm") * (2.0 * np.pi / 60.0),
     )
+    arrays.update(stiffness_arrays(spec, tool_position))
     for value in arrays.values():
         if isinstance(value, np.ndarray):
             value.setflags(write=False)
     return ArmParams(**arrays)
+
+
+# --- stiffness arrays --------------------------------------------------------------------
+def _beam(joint, next_offset):
+    """(unit direction (3,), length, EI, GJ, uniform mass) of a normalised joint's link beam.
+
+    A tube is its own beam (along +x from the link origin, its length); any other link's
+    beam runs from the link origin to the next joint's origin (the tool point on the last
+    link). The link's own ``bending_stiffness_Nm2``/``torsional_stiffness_Nm2`` win over the
+    tube's section values (E, G from ``MODULI``); neither given: the link is rigid.
+    """
+    link = joint["link"]
+    tube = link.get("tube")
+    if tube is not None:
+        direction, length = np.array([1.0, 0.0, 0.0]), tube["length_m"]
+        density = tube.get("density_kgm3") or MATERIALS[tube["material"]]
+        self_mass = tube_properties(tube["length_m"], tube["outer_diameter_m"], tube["wall_m"],
+                                    density).mass_kg
+        ei = gj = np.inf
+        if "material" in tube:
+            ei, gj = tube_section_stiffness(tube["outer_diameter_m"], tube["wall_m"],
+                                            *MODULI[tube["material"]])
+    else:
+        offset = np.asarray(next_offset, float)
+        length = float(np.linalg.norm(offset))
+        direction = offset / length if length > 0.0 else np.zeros(3)
+        self_mass, ei, gj = 0.0, np.inf, np.inf
+    if "bending_stiffness_Nm2" in link:
+        ei, gj = link["bending_stiffness_Nm2"], link["torsional_stiffness_Nm2"]
+    return direction, float(length), float(ei), float(gj), float(self_mass)
+
+
+def stiffness_arrays(spec, tool_position):
+    """Joint springs, link beams and the point loads of each link, for ``_stiffness``."""
+    joints = spec["joints"]
+    n = len(joints)
+    offsets = [j["xyz_m"] for j in joints[1:]] + [tool_position]
+    beams = [_beam(j, off) for j, off in zip(joints, offsets)]
+    loads = []
+    for i, j in enumerate(joints):
+        link = j["link"]
+        items = [] if "tube" in link else [(link["mass_kg"], link["com_m"])]
+        items += [(pm["mass_kg"], pm["xyz_m"]) for pm in link["point_masses"]]
+        if i == n - 1:
+            items.append((spec["tool"]["payload_kg"], list(tool_position)))
+        loads.append(items)
+    width = max(1, max(len(items) for items in loads))
+    load_mass = np.zeros((n, width))
+    load_position = np.zeros((n, width, 3))
+    for i, items in enumerate(loads):
+        for p, (mass, xyz) in enumerate(items):
+            load_mass[i, p] = mass
+            load_position[i, p] = xyz
+    stiffness = np.array([(j.get("actuator") or {}).get("stiffness_Nm_per_rad", np.inf)
+                          for j in joints], float)
+    return dict(
+        joint_stiffness=stiffness,
+        beam_dir=np.array([b[0] for b in beams], float),
+        beam_length=np.array([b[1] for b in beams]),
+        beam_bending=np.array([b[2] for b in beams]),
+        beam_torsion=np.array([b[3] for b in beams]),
+        beam_self_mass=np.array([b[4] for b in beams]),
+        load_mass=load_mass,
+        load_position=load_position,
+        payload_mass=float(spec["tool"]["payload_kg"]),
+    )

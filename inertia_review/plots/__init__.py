@@ -38,12 +38,11 @@ from ._ellipses import (
                            plot_ellipse_field,
                            plot_principal_directions,
 )
+from ._headroom_map import HeadroomArtists, plot_headroom_map
 from ._map_plots import (
-                           HeadroomArtists,
                            MapArtists,
                            SmallMultiples,
                            plot_difference_map,
-                           plot_headroom_map,
                            plot_metric_map,
                            plot_small_multiples,
 )

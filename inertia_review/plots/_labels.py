@@ -21,6 +21,8 @@ _SCREEN = {
     "kg m^2": ("kg·m²", 1.0),
     "m^2": ("m²", 1.0),
     "m^3": ("m³", 1.0),
+    "Hz": ("Hz", 1.0),
+    "N m^-1": ("N/mm", 1.0e-3),          # tool stiffness: N/mm on screen (common practice)
 }
 _SUPERSCRIPT = {"2": "²", "3": "³"}
 

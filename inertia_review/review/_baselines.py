@@ -7,7 +7,8 @@ from ..studies._scores import BETTER, SCORE_COLUMNS, design_scores, scores_table
 __all__ = ["baseline_table", "scores_view"]
 
 #: decimals printed per score (fixed, so that the text changes only when a value does)
-_DECIMALS = {"accel_capability_min": 3, "moving_mass_kg": 4}
+_DECIMALS = {"accel_capability_min": 3, "moving_mass_kg": 4, "f1_lowest_hz": 2,
+             "sag_largest_m": 7, "payload_rated_kg": 3}
 
 
 def _cell(value, decimals):
@@ -27,7 +28,8 @@ def baseline_table(maps, *, decimals=4, columns=None):
     maps : sequence of xarray.Dataset
         Maps from :func:`inertia_review.metric_map`.
     decimals : int, default 4
-        Decimals of every dimensionless score (accelerations 3, masses 4).
+        Decimals of every dimensionless score (accelerations 3, masses 4, frequencies 2,
+        sag 7 (0.1 um), payloads 3).
     columns : sequence of str, optional
         Score names (default: every score of ``SCORE_COLUMNS``).
 

@@ -3,7 +3,7 @@
 Phrased generally (not quoted from any standard); see DEVELOPERS.md before changing.
 """
 
-__all__ = ["TORQUE_CAUTION", "CONTACT_CAUTION"]
+__all__ = ["TORQUE_CAUTION", "CONTACT_CAUTION", "STIFFNESS_CAUTION"]
 
 TORQUE_CAUTION = (
     "CAUTION: torque margins and acceleration capabilities are design-stage estimates from an "
@@ -26,4 +26,13 @@ CONTACT_CAUTION = (
     "must be measured on the finished application (ISO/PAS 5672), after a risk assessment per "
     "ISO 12100 and ISO 10218-2. No transient contact with the skull, forehead or face is "
     "permitted. Local regulations and qualified, licensed practice decide."
+)
+
+STIFFNESS_CAUTION = (
+    "CAUTION: stiffness, sag, natural frequencies and payload ratings are design-stage estimates "
+    "from a linear-elastic model (joint springs and straight Euler-Bernoulli link beams; no joint "
+    "play or backlash, no bearing, housing or flange compliance, no control loop, no structure "
+    "beyond the model, small deflections). Measure stiffness and vibration on the built arm. They "
+    "are not a validation: the applicable standards (ISO 12100, ISO 10218-1/-2), local "
+    "regulations and qualified, licensed engineering practice decide."
 )

@@ -6,13 +6,17 @@ every metric is evaluated at once through the shared core terms.
 
 import numpy as np
 
-from ..core import _metrics
+from ..core import _metrics, _payload, _stiffness
 from ..core._layout import to_core
 from ..model._regions import Task
-from ._cautions import TORQUE_CAUTION
+from ._cautions import STIFFNESS_CAUTION, TORQUE_CAUTION
 from ._ik import SOLVED, STATUS, solve_positions
 
-__all__ = ["metric_map", "METRIC_ATTRS"]
+__all__ = ["metric_map", "METRIC_ATTRS", "STIFFNESS_VARIABLES"]
+
+#: map variables of the linear-elastic and rating model: shown with STIFFNESS_CAUTION
+STIFFNESS_VARIABLES = ("first_frequency", "sag", "stiffness_min", "payload_capacity",
+                       "max_tool_speed")
 
 #: units and one-line definitions of the map variables (also used for plot labels)
 METRIC_ATTRS = {
@@ -38,6 +42,17 @@ METRIC_ATTRS = {
                          "reachable in every task direction from rest within the peak ratings"),
     "near_singular": ("1", "near-singular", "isotropy index below the threshold "
                       "(attribute 'threshold'; 0.01 by default)"),
+    # stiffness, vibration and payload (linear-elastic estimates; see STIFFNESS_CAUTION)
+    "first_frequency": ("Hz", "first natural frequency", "lowest f of K phi = omega^2 M(q) phi "
+                        "with joint springs and link beams lumped into them"),
+    "sag": ("m", "tool sag", "length of the static tool displacement under gravity on the arm "
+            "and payload (joint springs and link beams)"),
+    "stiffness_min": ("N m^-1", "lowest tool stiffness", "smallest principal translational "
+                      "stiffness of the tool point in the task (inf where rigid)"),
+    "payload_capacity": ("kg", "payload capacity", "largest payload with every rated joint within "
+                         "its peak torque at the required acceleration in every task direction"),
+    "max_tool_speed": ("m s^-1", "largest tool speed", "largest tool speed in the task with every "
+                       "joint within its rated speed (rated motor speed / gear ratio)"),
     "q": ("rad", "joint angles", "configuration solved for the point (NaN where not solved)"),
     "status": ("1", "solution status", "0 ok, 6 solved at a branch seam (both carry values); "
                "see flag_values / flag_meanings"),
@@ -51,7 +66,8 @@ def _attrs(name):
 
 def metric_map(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
                posture="elbow_up", reference_deg=None, tool_angle_deg=None, elbow_joint=None,
-               near_singular_threshold=0.01, **solver_options):
+               near_singular_threshold=0.01, stiffness=True,
+               **solver_options):
     """Every metric at every point of a task region, as an ``xarray.Dataset``.
 
     Parameters
@@ -66,6 +82,12 @@ def metric_map(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
         Direction for ``mass_along_approach`` (projected into the task span and normalised).
     payload_kg : float, optional
         Replaces the design's payload for this map.
+    near_singular_threshold : float, default 0.01
+        Isotropy index below which a point is flagged ``near_singular``.
+    stiffness : bool, default True
+        Also compute ``first_frequency``, ``sag``, ``stiffness_min`` (designs with an elastic
+        joint or link), ``payload_capacity`` (rated designs) and ``max_tool_speed`` (every
+        joint with a rated speed); they carry ``attrs["stiffness_caution"]``.
     posture, reference_deg, tool_angle_deg, elbow_joint, **solver_options
         Passed to :func:`inertia_review.solve_positions`.
 
@@ -83,13 +105,15 @@ def metric_map(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
     values, solution, points, grid, arm, attrs = map_arrays(
         arm, region, accel_mps2=accel_mps2, approach=approach, payload_kg=payload_kg,
         posture=posture, reference_deg=reference_deg, tool_angle_deg=tool_angle_deg,
-        elbow_joint=elbow_joint, near_singular_threshold=near_singular_threshold, **solver_options)
+        elbow_joint=elbow_joint, near_singular_threshold=near_singular_threshold,
+        stiffness=stiffness, **solver_options)
     return _to_dataset(xr, arm, values, solution, points, grid, attrs)
 
 
 def map_arrays(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
                posture="elbow_up", reference_deg=None, tool_angle_deg=None, elbow_joint=None,
-               near_singular_threshold=0.01, **solver_options):
+               near_singular_threshold=0.01, stiffness=True,
+               **solver_options):
     """The arrays behind :func:`metric_map` (flat over the grid), without building a Dataset."""
     task = region if isinstance(region, Task) else None
     if task is not None:
@@ -154,6 +178,10 @@ def map_arrays(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
             values["min_margin"][flat_ok] = head.min_margin
             values["limiting_joint"][flat_ok] = head.limiting_joint
             values["accel_capability"][flat_ok] = _metrics.acceleration_capability(params, terms)
+        if stiffness:
+            _stiffness_values(params, terms, accel, values, flat_ok)
+    elif stiffness:
+        _stiffness_values(params, None, accel, values, flat_ok)
     if approach is None:
         del values["mass_along_approach"]
     attrs = {
@@ -173,8 +201,41 @@ def map_arrays(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
         attrs["region_axes"] = [float(x) for row in region.axes for x in row]
     if approach is not None:
         attrs["approach"] = list(map(float, approach))
+    if any(key in values for key in STIFFNESS_VARIABLES):
+        attrs["stiffness_caution"] = STIFFNESS_CAUTION
     values["status"] = solution.status.reshape(-1)
     return values, solution, points, grid, arm, attrs
+
+
+
+def _stiffness_values(params, terms, accel, values, flat_ok):
+    """Stiffness, vibration, payload and speed variables where the design defines them: an
+    elastic part for the first three, a peak rating for the payload, a rated speed on every
+    joint for the tool speed (a variable the design cannot define is left out of the map)."""
+    size = flat_ok.size
+    elastic = _stiffness.has_compliance(params)
+    rated = bool(np.any(np.isfinite(params.peak_torque)))
+    speeds = bool(np.all(np.isfinite(params.rated_speed)))
+    for key, wanted in (("first_frequency", elastic), ("sag", elastic), ("stiffness_min", elastic),
+                        ("payload_capacity", rated), ("max_tool_speed", speeds)):
+        if wanted:
+            values[key] = np.full(size, np.nan)
+    if terms is None:
+        return
+    if elastic:
+        modes = _stiffness.natural_modes(params, terms.frames, terms.mass, terms.jacobian)
+        values["first_frequency"][flat_ok] = modes.frequencies_hz[0]
+        sag = _stiffness.gravity_sag(params, terms.frames, terms.jacobian)
+        values["sag"][flat_ok] = np.sqrt(np.sum(sag * sag, axis=0))
+        comp = _stiffness.tool_compliance(params, terms.frames, terms.jacobian)
+        a = params.task_axes
+        vals, _ = _metrics.sym_eig(np.einsum("ki,ijN,lj->klN", a, comp, a))
+        values["stiffness_min"][flat_ok] = np.where(vals[-1] > 0.0, 1.0 / np.where(
+            vals[-1] > 0.0, vals[-1], 1.0), np.inf)
+    if rated:
+        values["payload_capacity"][flat_ok] = _payload.payload_capacity(params, terms, accel)
+    if speeds:
+        values["max_tool_speed"][flat_ok] = _payload.max_tool_speed(params, terms)
 
 
 def _to_dataset(xr, arm, values, solution, points, grid, attrs):

@@ -25,6 +25,12 @@ SCORE_COLUMNS = {
     "headroom_positive_fraction": ("1", "share of the reachable points with headroom > 0"),
     "accel_capability_min": ("m s^-2", "lowest acceleration capability over the reachable points"),
     "moving_mass_kg": ("kg", "total moving mass: links, point masses and payload"),
+    # linear-elastic estimates (STIFFNESS_CAUTION); NaN where the design has no elastic part
+    # or no peak rating
+    "f1_lowest_hz": ("Hz", "lowest first natural frequency over the reachable points"),
+    "sag_largest_m": ("m", "largest static tool sag under gravity over the reachable points"),
+    "payload_rated_kg": ("kg", "payload capacity at the worst reachable point (every rated "
+                               "joint within its peak torque at the task acceleration)"),
 }
 
 
@@ -76,6 +82,10 @@ def scores_from_arrays(arrays, attrs, joint_names):
         row["headroom_worst_joint"] = str(joint_names[joint_index])
         row["headroom_positive_fraction"] = float(np.mean(margin > 0.0))
         row["accel_capability_min"] = float(arrays["accel_capability"][ok].min())
+    for score, name, pick in (("f1_lowest_hz", "first_frequency", np.min),
+                              ("sag_largest_m", "sag", np.max),
+                              ("payload_rated_kg", "payload_capacity", np.min)):
+        row[score] = float(pick(arrays[name][ok])) if name in arrays and iso.size else np.nan
     return row
 
 

@@ -36,6 +36,7 @@ from ..model._regions import Task
 from ._ik import NOT_CONVERGED, OK, OUT_OF_REACH, solve_positions
 from ._ik_status import SOLVED
 from ._ik_numeric import reach_bound as _reach_bound, solve_small as _solve_small
+from ._maps import _stiffness_values
 from ._posture import PostureRule, accepts, posture_rule, posture_value
 from ._scores import scores_from_arrays
 
@@ -139,7 +140,7 @@ def _region_options(region, accel_mps2, payload_kg):
 
 def score_variants(base, variants, region, *, accel_mps2=None, payload_kg=None,
                    posture="elbow_up", group_size=50, tolerance_m=1e-9, max_iterations=40,
-                   exact=True):
+                   exact=True, stiffness=True):
     """Scores of design variants on a region, in batched passes.
 
     Parameters
@@ -160,6 +161,9 @@ def score_variants(base, variants, region, *, accel_mps2=None, payload_kg=None,
         count as not solved (status ``not_converged``): much faster where part of the
         region is out of reach, and a solution missed this way can only lower the
         reachable fraction (``benchmarks/region_speed.py`` counts how often that happens).
+    stiffness : bool, default True
+        Also score ``f1_lowest_hz``, ``sag_largest_m`` and ``payload_rated_kg`` (as
+        ``metric_map(stiffness=True)``); with False they are NaN and the pass is faster.
 
     Returns
     -------
@@ -200,7 +204,7 @@ def score_variants(base, variants, region, *, accel_mps2=None, payload_kg=None,
     previous = None
     for group in groups:
         rows, previous = _score_group(group, pts, region, accel, posture, table_size,
-                                      tolerance_m, max_iterations, previous, exact)
+                                      tolerance_m, max_iterations, previous, exact, stiffness)
         for (index, _, _), row in zip(group, rows):
             out[index] = (row, "")
     return out
@@ -214,7 +218,8 @@ def _solve_one(vspec, params, pts, posture, table_size, initial_q=None, toleranc
                            initial_q=initial_q)
 
 
-def _score_group(group, pts, region, accel, posture, table_size, tol, iters, previous, exact):
+def _score_group(group, pts, region, accel, posture, table_size, tol, iters, previous, exact,
+                 stiffness=True):
     params_list = [p for _, _, p in group]
     n, k = params_list[0].n, params_list[0].task_axes.shape[0]
     count = pts.shape[0]
@@ -296,8 +301,23 @@ def _score_group(group, pts, region, accel, posture, table_size, tol, iters, pre
         if rated_any[v]:
             for name in ("min_margin", "limiting_joint", "accel_capability"):
                 arrays[name] = values[name][part]
+        if stiffness:
+            arrays.update(_stiffness_arrays(params, q[v], ok[part], accel))
         arm = Arm(vspec, params)
         attrs = {"design": vspec["name"], "cell_measure": region.cell_measure,
                  "moving_mass_kg": arm.moving_mass}
         rows.append(scores_from_arrays(arrays, attrs, [j["name"] for j in vspec["joints"]]))
     return rows, previous
+
+
+def _stiffness_arrays(params, q, ok, accel):
+    """f1, sag, stiffness, payload and tool speed of one variant at its solved points (the
+    map's own kernels, batched over the points; one call per variant, as each variant has its
+    own beams and springs)."""
+    values = {}
+    if not ok.any():
+        _stiffness_values(params, None, accel, values, ok)
+        return values
+    terms = _metrics.task_terms(params, q[ok].T)
+    _stiffness_values(params, terms, accel, values, ok)
+    return values

@@ -1,0 +1,139 @@
+"""Payload capacity and rated tool speed kernels in the batch-last layout (private).
+
+The payload is a point mass m at the tool point (the design's payload inertia is kept as it
+is): M(m) = M_0 + m J_v^T J_v (its kinetic energy m |J_v qd|^2 / 2) and the holding torque
+g(m) = g_0 - m J_v^T g_W, where M_0, g_0 are the arm's without its design payload.
+"""
+
+import itertools
+
+import numpy as np
+
+from . import _dynamics, _metrics
+from ._smallmat import cholesky_forward, matmul, sym_eig, transpose
+
+__all__ = ["payload_capacity", "max_tool_speed", "UNBOUNDED_PAYLOAD_KG", "BISECTION_STEPS"]
+
+#: Payload above which the search stops and reports inf (no rated joint limits it).
+UNBOUNDED_PAYLOAD_KG = 1.0e6
+#: Root-finding steps after bracketing (Illinois regula falsi; converges superlinearly on
+#: the smooth demand, so 12 steps reach round-off on the demo designs).
+BISECTION_STEPS = 12
+#: The search stops early once every kept payload loads its limiting joint to within this
+#: fraction of the peak rating (demand / peak - 1 >= -EXCESS_TOL).
+EXCESS_TOL = 1.0e-10
+
+
+def _with_mass(params, terms, mass):
+    """TaskTerms of ``terms`` with the mass matrix replaced (same kinematics)."""
+    jt = terms.task_jacobian
+    y, pivots = cholesky_forward(mass, np.swapaxes(jt, 0, 1))
+    mass_singular = ~np.all(pivots > 0.0, axis=0)
+    y = np.where(mass_singular, 0.0, y)
+    mobility = matmul(transpose(y), y)
+    eigvals, eigvecs = sym_eig(mobility)
+    singular = (eigvals[0] <= _metrics.SINGULAR_RTOL * eigvals[-1]) | mass_singular
+    if params.n < jt.shape[0]:
+        singular = np.ones_like(singular)
+    return terms._replace(mass=mass, mobility=mobility, eigvals=eigvals, eigvecs=eigvecs,
+                          singular=singular)
+
+
+def payload_capacity(params, terms, accel_mps2):
+    """Largest payload (N,) [kg] with every rated joint within its peak torque.
+
+    Demand of joint j at payload m: |g_0j + m p_j| + a ||row_j(J_t^T Lambda(m))|| (the
+    ``torque_headroom`` rule: gravity plus the worst task direction of acceleration a), with
+    p = -J_v^T g_W. For a = 0 the first crossing is closed form per joint,
+    m_j = (sign(p_j) tau_j - g_0j) / p_j; the smallest over joints is the capacity (0 if a joint
+    is over its rating without payload; inf if no rated joint carries payload). For a > 0 it is
+    an upper bound and the capacity is found between m = 0 and that bound (or a doubled
+    bracket) by Illinois regula falsi, at most ``BISECTION_STEPS`` steps for all configurations
+    at once (fewer once every point is within ``EXCESS_TOL`` of its rating). Payloads below
+    the result are not each checked: where the demand is not monotone in m the result is a
+    payload at which a joint reaches its rating.
+    """
+    jv = terms.jacobian[:3]
+    rated = np.isfinite(params.peak_torque)
+    peak = np.where(rated, params.peak_torque, np.inf)[:, None]
+    per_kg = -np.einsum("rjN,r->jN", jv, params.gravity)           # (n, N)
+    hold0 = _dynamics.gravity_torque(params, terms.frames) - params.payload_mass * per_kg
+    jtj = matmul(transpose(jv), jv)
+    mass0 = terms.mass - params.payload_mass * jtj
+    with np.errstate(divide="ignore", invalid="ignore"):
+        cross_at = (np.sign(per_kg) * peak - hold0) / per_kg
+    cross_at = np.where((per_kg != 0.0) & rated[:, None], cross_at, np.inf)
+    cross_at = np.where(np.abs(hold0) > peak, 0.0, np.maximum(cross_at, 0.0))
+    static = np.min(cross_at, axis=0)                               # (N,)
+    if accel_mps2 <= 0.0:
+        return static
+
+    def excess(m):
+        """max over rated joints of demand / peak - 1 (N,): <= 0 where feasible."""
+        trial = _with_mass(params, terms, mass0 + m * jtj)
+        dyn = _metrics._dynamic_row_norms(params, trial)
+        demand = np.abs(hold0 + m * per_kg) + accel_mps2 * dyn
+        ratio = np.where(rated[:, None], demand / np.where(rated, peak[:, 0], 1.0)[:, None], -1.0)
+        return np.max(ratio, axis=0) - 1.0
+
+    low = np.zeros_like(static)
+    f_low = excess(low)
+    ok0 = f_low <= 0.0                        # within every rating without payload
+    high = np.where(np.isfinite(static), static, 1.0)
+    f_high = excess(high)
+    open_top = ~np.isfinite(static) & (f_high <= 0.0)
+    while np.any(open_top):                      # double until infeasible or unbounded
+        low = np.where(open_top, high, low)
+        f_low = np.where(open_top, f_high, f_low)
+        high = np.where(open_top, 2.0 * high, high)
+        f_high = np.where(open_top, excess(high), f_high)
+        open_top = open_top & (f_high <= 0.0) & (high < UNBOUNDED_PAYLOAD_KG)
+    unbounded = f_high <= 0.0
+    # Illinois regula falsi (Dowell & Jarratt, BIT 11, 1971): the secant through the
+    # bracket ends, halving the weight of an end kept twice; plain bisection where a
+    # demand is not finite (singular configurations)
+    side = np.zeros(low.shape, dtype=np.int8)
+    true_low = f_low.copy()                   # f at low (f_low is weighted by the halving)
+    # a point stops (and keeps its result, whatever the rest of the batch does) once its
+    # kept payload loads a joint to within EXCESS_TOL of its rating or its bracket is closed
+    # to round-off; unbounded and unloadable points never start
+    active = ok0 & ~unbounded
+    for _ in range(BISECTION_STEPS):
+        if not np.any(active):
+            break
+        finite = np.isfinite(f_low) & np.isfinite(f_high) & (f_high > f_low)
+        secant = low - (np.where(finite, f_low, 0.0) * (high - low)
+                        / np.where(finite, f_high - np.where(finite, f_low, 0.0), 1.0))
+        mid = np.where(finite, secant, 0.5 * (low + high))
+        mid = np.clip(mid, low, high)
+        f_mid = excess(mid)
+        good = (f_mid <= 0.0) & active
+        bad = ~(f_mid <= 0.0) & active
+        f_high = np.where(good & (side == 1), 0.5 * f_high, f_high)
+        f_low = np.where(bad & (side == -1), 0.5 * f_low, f_low)
+        low, f_low = np.where(good, mid, low), np.where(good, f_mid, f_low)
+        true_low = np.where(good, f_mid, true_low)
+        high, f_high = np.where(bad, mid, high), np.where(bad, f_mid, f_high)
+        side = np.where(good, 1, np.where(bad, -1, side)).astype(np.int8)
+        active &= ~((true_low >= -EXCESS_TOL) | (high - low <= 4.0 * np.finfo(float).eps * high))
+    return np.where(~ok0, 0.0, np.where(unbounded, np.inf, low))
+
+
+def max_tool_speed(params, terms):
+    """Largest tool-point speed (N,) [m/s] in the task with every joint at its rated speed.
+
+    Joint speed limits w_j = rated motor speed / gear ratio [rad/s]; the speed ||J_t qd|| is
+    convex in qd, so its maximum over the box |qd_j| <= w_j is at a vertex: the largest over
+    the 2^n sign patterns (common practice, no source). NaN if a joint has no rating.
+    """
+    limit = params.rated_speed / params.gear_ratio
+    jt = terms.task_jacobian
+    best = np.zeros(jt.shape[-1])
+    if not np.all(np.isfinite(limit)):
+        return np.full(jt.shape[-1], np.nan)
+    scaled = jt * limit[None, :, None]
+    for signs in itertools.product((1.0, -1.0), repeat=params.n - 1):
+        s = np.array((1.0,) + signs)
+        v = np.einsum("knN,n->kN", scaled, s)
+        best = np.maximum(best, np.sqrt(np.sum(v * v, axis=0)))
+    return best

@@ -125,3 +125,31 @@ def test_bad_input_names_the_path():
     with pytest.raises(ValueError, match="infeasible problem.*derived.reach_m <= 0.1"):
         DesignSearch(arm, space, ["max:gci"], ["derived.reach_m <= 0.1"], region=region,
                      generations=2, population=6, progress=False).run(random_state=0)
+
+
+def test_paths_that_overwrite_each_other_are_refused_before_any_evaluation():
+    """A link's length and the link ratio both set that link: a result would not describe
+    its design (the table would report a ratio the evaluated arm does not have)."""
+    arm = ir.demo_design("kestrel_a")
+    coupled = {"joints[shoulder].link_length_m": (0.25, 0.45), "derived.link_ratio": (0.6, 1.2)}
+    with pytest.raises(ir.DesignError, match=r"derived.link_ratio: set to 0.9 .*"
+                                             r"'joints\[shoulder\].link_length_m'"):
+        DesignSearch(arm, coupled, ["max:gci"], region=SMALL, progress=False).run(random_state=0)
+    with pytest.raises(ir.DesignError, match="change the same quantity"):
+        arm.with_values({"joints[shoulder].link_length_m": 0.30, "derived.link_ratio": 1.1})
+    # independent paths read back exactly what they were given
+    values = {"joints[shoulder].link_length_m": 0.30, "joints[elbow].link_length_m": 0.33,
+              "mount.rpy_deg[1]": 12.0}
+    got = ir.parameter_paths(arm.with_values(values))
+    assert all(got[p] == pytest.approx(v, rel=1e-12) for p, v in values.items())
+    assert got["derived.link_ratio"] == pytest.approx(0.33 / 0.30, rel=1e-12)
+
+
+def test_one_at_a_time_accepts_coupled_paths_but_global_sensitivity_refuses_them():
+    """One at a time moves each path alone (no overwriting); the global methods move all."""
+    arm = ir.demo_design("kestrel_a")
+    coupled = {"joints[shoulder].link_length_m": (0.30, 0.40), "derived.link_ratio": (0.8, 1.0)}
+    table = ir.one_at_a_time(arm, coupled, "gci", region=SMALL)
+    assert list(table.index) == list(coupled)
+    with pytest.raises(ir.DesignError, match="change the same quantity"):
+        ir.global_sensitivity(arm, coupled, "gci", region=SMALL)

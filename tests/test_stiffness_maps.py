@@ -160,3 +160,21 @@ def test_sag_and_frequency_maps_plot_in_mm_and_hz_with_the_caution(vertical_map)
     assert f1.caution is not None
     assert irp.plot_metric_map(ds, "isotropy").caution is None
     plt.close("all")
+
+
+def test_small_multiples_of_sag_carry_the_caution_once(vertical_map):
+    """Several panels of a stiffness metric: one caution for the figure, not one per panel."""
+    import matplotlib
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    import inertia_review.plots as irp
+
+    _, ds = vertical_map
+    board = irp.plot_small_multiples([ds, ds, ds], "sag")
+    texts = [t for t in board.figure.findobj(matplotlib.text.Text) if t.get_gid() == "caution"]
+    assert len(texts) == 1 and texts[0] is board.caution
+    assert "linear-elastic" in board.caution.get_text()
+    assert all(m.caution is None for m in board.maps)
+    assert irp.plot_small_multiples([ds, ds], "isotropy").caution is None
+    plt.close("all")

@@ -216,7 +216,26 @@ def apply_values(spec, values):
             _set(out, path, value)
         except (KeyError, ValueError) as exc:
             raise DesignError(spec["name"], [(path, str(exc.args[0]).split(": ", 1)[-1])]) from None
+    if len(values) > 1:
+        _check_read_back(spec["name"], out, values)
     return out
+
+
+def _check_read_back(name, spec, values):
+    """Refuse paths that overwrite each other (e.g. a link's length and the link ratio).
+
+    Every path must read back the value it was given once all are applied; otherwise a
+    result table would report a value the evaluated design does not have.
+    """
+    for path, value in values.items():
+        got = get_value(spec, path)
+        if not np.isclose(got, float(value), rtol=1e-9, atol=1e-12):
+            others = ", ".join(f"'{p}'" for p in values if p != path)
+            raise DesignError(name, [(path, (
+                f"set to {float(value):.6g} but the design has {got:.6g} once the other paths "
+                f"({others}) are applied: these paths change the same quantity, so a result "
+                "would not describe its design; vary independent paths (e.g. both links' "
+                "lengths, or derived.reach_m with derived.link_ratio)"))])
 
 
 def parameter_paths(arm):

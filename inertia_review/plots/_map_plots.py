@@ -3,6 +3,7 @@
 The headroom map is in ``_headroom_map``.
 """
 
+import textwrap
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -208,7 +209,7 @@ def _frame(ax, plane, title):
 
 def plot_metric_map(ds, metric="mass_ratio", *, ax=None, arm=None, probe=None, select=None,
                     cmap=None, norm=None, vmin=None, vmax=None, colorbar=True, title=None,
-                    legend=True, **style):
+                    legend=True, caution=True, **style):
     """Draw one metric of a map over its region plane.
 
     The metric is a ``pcolormesh`` over the region's grid in screen units (positions
@@ -241,6 +242,9 @@ def plot_metric_map(ds, metric="mass_ratio", *, ax=None, arm=None, probe=None, s
     colorbar, legend : bool, default True
     title : str, optional
         Default: the design name.
+    caution : bool, default True
+        Draw the stiffness caution under a stiffness, sag, frequency or payload map;
+        ``False`` leaves it to the caller (a figure of several panels shows it once).
     **style
         Passed to ``pcolormesh``.
 
@@ -273,12 +277,12 @@ def plot_metric_map(ds, metric="mass_ratio", *, ax=None, arm=None, probe=None, s
         cbar = layout.figure.colorbar(mesh, ax=ax, label=label, shrink=0.9) if colorbar else None
         leg = (layout.legend(_handles(reach, singular, (arm_line, marker, seam))) if legend
                else None)
-        caution = None
-        if metric in STIFFNESS_VARIABLES:
-            caution = layout.caution(ds.attrs.get("stiffness_caution", STIFFNESS_CAUTION))
+        note = None
+        if caution and metric in STIFFNESS_VARIABLES:
+            note = layout.caution(ds.attrs.get("stiffness_caution", STIFFNESS_CAUTION))
         layout.finish()
     return MapArtists(mesh, cbar, reach, singular, arm_line, marker, ax, label, leg, seam,
-                      caution)
+                      note)
 
 
 @dataclass
@@ -290,6 +294,7 @@ class SmallMultiples:
     axes: list
     figure: object
     norm: object = field(default=None)
+    caution: object = None   # the one stiffness caution Text of the figure (stiffness metrics)
 
     @property
     def meshes(self):
@@ -363,7 +368,7 @@ def plot_small_multiples(maps, metric="mass_ratio", *, axes=None, select=None, c
             fig = axes[0].figure
         titles = titles or [ds.attrs.get("design", f"map {i}") for i, ds in enumerate(maps)]
         drawn = [plot_metric_map(ds, metric, ax=a, select=select, cmap=cmap, norm=norm,
-                                 colorbar=False, title=t, legend=False)
+                                 colorbar=False, title=t, legend=False, caution=False)
                  for ds, a, t in zip(maps, axes, titles)]
         if own:
             # every panel keeps its x tick labels and x label (a panel is read on its own);
@@ -377,15 +382,32 @@ def plot_small_multiples(maps, metric="mass_ratio", *, axes=None, select=None, c
         reach = next((d.reach for d in drawn if d.reach is not None), None)
         singular = next((d.singular for d in drawn if d.singular is not None), None)
         handles = _handles(reach, singular)
+        text = (" ".join(str(maps[0].attrs.get("stiffness_caution", STIFFNESS_CAUTION)).split())
+                if metric in STIFFNESS_VARIABLES else None)
+        legend = note = None
         if notes is not None:
             if handles:
-                notes.legend(handles=handles, loc="upper left", ncols=len(handles),
-                             frameon=False, borderaxespad=0.0)
-            else:
+                legend = notes.legend(handles=handles, loc="upper left", ncols=len(handles),
+                                      frameon=False, borderaxespad=0.0)
+            if text is not None:
+                # one caution for the whole figure, under the legend, wrapped to its width
+                chars = max(40, int((fig.get_figwidth() - 0.4) * 72.0
+                                    / (0.6 * _style.CAUTION_FONTSIZE)))
+                anchor = ("axes fraction", legend) if legend is not None else "axes fraction"
+                note = notes.annotate(textwrap.fill(text, width=chars),
+                                      xy=(0.0, 0.0) if legend is not None else (0.0, 1.0),
+                                      xycoords=anchor, xytext=(0.0, -6.0),
+                                      textcoords="offset points", ha="left", va="top",
+                                      fontsize=_style.CAUTION_FONTSIZE, color=_style.COLORS["ink"],
+                                      annotation_clip=False, gid="caution")
+            if not handles and text is None:
                 notes.set_visible(False)
-        elif handles:
-            axes[0].legend(handles=handles, loc="best", framealpha=0.9)
-    return SmallMultiples(drawn, cbar, axes, fig, norm)
+        else:
+            if handles:
+                axes[0].legend(handles=handles, loc="best", framealpha=0.9)
+            if text is not None:
+                note = _style.add_caution(axes[-1], text)
+    return SmallMultiples(drawn, cbar, axes, fig, norm, note)
 
 
 def plot_difference_map(ds_b, ds_a, metric="mass_ratio", *, ax=None, select=None, cmap=None,

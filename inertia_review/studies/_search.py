@@ -16,7 +16,7 @@ import re
 import numpy as np
 
 from ..model._errors import DesignError
-from ..model._paths import get_value
+from ..model._paths import apply_values, get_value
 from ._scores import SCORE_COLUMNS
 from ._variants import score_variants, variant_params
 
@@ -113,6 +113,19 @@ def check_space(spec, space):
     return paths, bounds, choices
 
 
+def check_independent(spec, paths, bounds, choices=None):
+    """Refuse paths that overwrite each other when varied together (DesignError naming one).
+
+    A link's length and the link ratio both set that link: the designs evaluated would not
+    have the values a result table reports. Checked at the middle of the space.
+    """
+    choices = choices if choices is not None else [None] * len(paths)
+    if len(paths) > 1:
+        middle = {p: (0.5 * (b[0] + b[1]) if c is None else float(c[0]))
+                  for p, b, c in zip(paths, bounds, choices)}
+        apply_values(spec, middle)
+
+
 class DesignSearch:
     """Search parameter paths of a design for the best scores under constraints.
 
@@ -167,6 +180,7 @@ class DesignSearch:
     def _plan(self):
         spec = self.arm.to_dict()
         paths, bounds, choices = check_space(spec, self.space)
+        check_independent(spec, paths, bounds, choices)
         objectives = [_parse_objective(o) for o in self.objectives]
         if not objectives:
             raise ValueError("give at least one objective, e.g. 'max:gci'")
@@ -230,7 +244,6 @@ class DesignSearch:
             return float(row[name]) if row is not None else np.nan
         if name in values:
             return values[name]
-        from ..model._paths import apply_values
         return float(get_value(apply_values(self._spec, values), name))
 
     # ------------------------------------------------------------------ run

@@ -14,7 +14,7 @@ import pandas as pd
 from ..model._paths import get_value
 from ._cautions import TORQUE_CAUTION
 from ._scores import SCORE_COLUMNS
-from ._search import check_space
+from ._search import check_independent, check_space
 from ._variants import score_variants
 
 __all__ = ["global_sensitivity", "one_at_a_time"]
@@ -158,7 +158,8 @@ def global_sensitivity(arm, vary, score="gci", region=None, *, method="morris",
         ``attrs``: ``score``, ``units``, ``design``, ``method``, ``evaluations``, ``seed``.
     """
     _check_score(score)
-    _spec, paths, bounds = _check_vary(arm, vary)
+    spec, paths, bounds = _check_vary(arm, vary)
+    check_independent(spec, paths, bounds)       # all paths move together here
     region = _region(arm, region)
     problem = {"num_vars": len(paths), "names": list(paths), "bounds": bounds.tolist()}
     options = {"accel_mps2": accel_mps2, "posture": posture, "payload_kg": payload_kg}

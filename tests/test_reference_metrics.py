@@ -8,8 +8,8 @@ Sources (status from references.md):
   [C citation]: w = sqrt(det(J J^T)) = l1 l2 |sin q2| [M formula, checked D].
   (Dynamic manipulability, Yoshikawa ICRA 1985, has no public function in the
   toolkit and is not tested; see the note after the manipulability tests.)
-- Khatib, IEEE J. Robotics and Automation RA-3(1), 1987, eq. 18 [C via a
-  summary]: Lambda = J^-T M J^-1 = (J M^-1 J^T)^-1; Khatib, IJRR 14(1), 1995:
+- Khatib, IEEE J. Robotics and Automation RA-3(1), 1987, eq. 18 [S:
+  secondary summary only]: Lambda = J^-T M J^-1 = (J M^-1 J^T)^-1; Khatib, IJRR 14(1), 1995:
   effective mass m_u = 1 / (u^T J M^-1 J^T u) [M formula].
 - The closed-form Lambda oracles (point masses, uniform rods at q2 = 90 deg,
   payload identity, reflected rotor) are exact consequences of Khatib's
@@ -128,7 +128,7 @@ def gravity_formula(q, p):
 
 
 def lambda_formula(q, p):
-    """Khatib 1987 eq. 18: J^-T M J^-1 with numpy.linalg.inv [C summary]."""
+    """Khatib 1987 eq. 18: J^-T M J^-1 with numpy.linalg.inv [S summary]."""
     Jinv = np.linalg.inv(jacobian_formula(q, p["l1"], p["l2"]))
     return np.swapaxes(Jinv, -1, -2) @ mass_matrix_formula(q, p) @ Jinv
 
@@ -232,7 +232,8 @@ def test_case_a_isotropy_values(q, sigma, inv_kappa, rtol):
        l2=st.floats(0.2, 2.0), m1=st.floats(0.1, 5.0), m2=st.floats(0.1, 5.0))
 def test_isotropy_index_is_kinematic(seed, l1, l2, m1, m2):
     # sigma_min / sigma_max of the task Jacobian (Salisbury & Craig 1982
-    # condition number [C]); masses play no part; numpy SVD of the formula.
+    # condition number [S], via Boschetti et al. 2011); masses play no part;
+    # numpy SVD of the formula.
     q = np.random.default_rng(seed).uniform(-np.pi, np.pi, size=(6, 2))
     arm = planar_2r(geometry(l1, l2, m1, m2))
     # atol as in test_manipulability_formula (Gram-matrix rounding near
@@ -322,7 +323,7 @@ def test_case_b_mass_ratio_to_seven_digits():
 @pytest.mark.parametrize("case, q, lam, eig, ratio, m_x, m_y, rtol",
                          TABLE_ITEM4)
 def test_apparent_mass_table_values(case, q, lam, eig, ratio, m_x, m_y, rtol):
-    # references.md item 4 check cases [D] (Khatib 1987 eq. 18 [C summary];
+    # references.md item 4 check cases [D] (Khatib 1987 eq. 18 [S summary];
     # m_u per Khatib 1995 [M formula]). Case B at (0.3, 2.0): the ratio is
     # 1 / 3.418900874 = 0.29249166 (references.md item 4, corrected: 0.2924917, not 0.2924918),
     # checked at the 1e-9 of the 10-digit eigenvalue like every other entry.
@@ -342,7 +343,7 @@ def test_apparent_mass_table_values(case, q, lam, eig, ratio, m_x, m_y, rtol):
 
 @pytest.mark.parametrize("case", CASES)
 def test_apparent_mass_equals_inverse_jacobian_form(case):
-    # Khatib 1987 eq. 18 [C summary]: for square invertible J,
+    # Khatib 1987 eq. 18 [S summary]: for square invertible J,
     # (J M^-1 J^T)^-1 = J^-T M J^-1, computed here with numpy.linalg.inv
     # (a) from the core's own J and M, (b) from the closed-form J and M.
     p = CASES[case]
@@ -534,7 +535,7 @@ def test_singular_configuration_behaviour(case):
 def test_near_singular_mask():
     # arm-model.md: near_singular = isotropy_index < threshold; expected mask
     # from the numpy SVD of the closed-form Jacobian (Salisbury & Craig
-    # condition number [C]).
+    # condition number [S], via Boschetti et al. 2011).
     arm = planar_2r(CASE_A)
     q2 = np.array([0.0, 1e-4, 3e-3, 0.2, 0.5, np.pi / 2, np.pi - 1e-3, np.pi])
     q = np.stack([np.full_like(q2, 0.7), q2], -1)

@@ -13,8 +13,8 @@ against it (references.md, status in brackets):
   (0.588399, 0.392266) (references.md item 4 [D]).
 - Case A at q = (0, pi/2): Lambda = diag(m2/3, m1/3 + m2) = diag(1/3, 5/3) kg in the
   frame (across link 2, along link 2), an exact consequence of Khatib's definition
-  (Khatib 1987, eq. 18 [C via a summary]; oracle derived in references.md items 4
-  and 8 [D]).
+  (Khatib 1987, eq. 18 [S]: confirmed only through a secondary summary; oracle
+  derived in references.md items 4 and 8 [D]).
 - Ellipse convention: Asada's generalized inertia ellipsoid x^T Lambda x = 1 has
   semi-axes 1 / sqrt(lambda_i) (Asada 1983 [C abstract]; references.md item 4).
   Its shadow on a plane has support function 1 / sqrt(m_u) along in-plane unit u,

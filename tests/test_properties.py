@@ -359,8 +359,8 @@ def _check_square_lambda(arm, q):
     # analysis, e.g. Golub & Van Loan, Matrix Computations, ch. 2 [M]).
     assume(np.linalg.cond(jt @ np.linalg.solve(m, jt.T)) < 1e6)
     jinv = np.linalg.inv(jt)
-    lam_a = jinv.T @ m @ jinv                          # Khatib 1987, eq. 18 (non-redundant) [C, secondary]
-    lam_b = np.linalg.inv(jt @ np.linalg.solve(m, jt.T))   # Khatib 1987, eqs. 51-52 form [C, secondary]
+    lam_a = jinv.T @ m @ jinv                          # Khatib 1987, eq. 18 (non-redundant) [S]
+    lam_b = np.linalg.inv(jt @ np.linalg.solve(m, jt.T))   # Khatib 1987, eqs. 51-52 form [S]
     lam = ir.apparent_mass(arm, q)
     scale = float(np.max(np.abs(lam_a)))
     close(lam_a, lam_b, 1e-8 * scale)
@@ -372,7 +372,7 @@ def _check_square_lambda(arm, q):
 @given(design=S.planar_designs(min_joints=2, max_joints=2), data=st.data())
 def test_apparent_mass_square_planar_2r(design, data):
     # Lambda = J^-T M J^-1 = (J M^-1 J^T)^-1 for a square task Jacobian
-    # (Khatib 1987, operational-space formulation; references.md item 4 [C via secondary summary]).
+    # (Khatib 1987, operational-space formulation; references.md item 4 [S], summary only).
     arm = ir.Arm.from_dict(design)
     assert arm.task_axes.shape == (2, 3)
     _check_square_lambda(arm, draw_vec(data, 2))
@@ -420,10 +420,11 @@ def test_payload_adds_its_mass_to_apparent_mass(design, data):
 @PROP
 @given(design=S.designs(min_joints=2), data=st.data())
 def test_metrics_agree_with_their_definitions(design, data):
-    # principal masses = eigenvalues of Lambda (Khatib 1995 effective mass [C, secondary]);
+    # principal masses = eigenvalues of Lambda (Khatib 1995 effective mass [S]);
     # mass along u = 1/(u^T A J_v M^-1 J_v^T A^T u) (Khatib 1995 [M formula]);
-    # isotropy = sigma_min/sigma_max of A J_v (Salisbury & Craig 1982 [C citation]);
-    # manipulability = sqrt(det(Jt Jt^T)) (Yoshikawa 1985 [C citation]).
+    # isotropy = sigma_min/sigma_max of A J_v (Salisbury & Craig 1982 [C citation]; the
+    # condition number as their measure [S], via Boschetti et al. 2011);
+    # manipulability = sqrt(det(Jt Jt^T)) (Yoshikawa 1985 [C citation, M formula]).
     arm, k, q, jt, s, m = _regular_pose(design, data)
     mob = jt @ np.linalg.solve(m, jt.T)
     assume(np.linalg.cond(mob) < 1e6)                               # see _check_square_lambda

@@ -1,7 +1,8 @@
 """Global conditioning index of the planar 2R arm: quadrature of the core's isotropy index.
 
 Source of the check values: references.md item 5 (GCI of Gosselin & Angeles 1991, ASME J.
-Mech. Design 113(3):220-226; definition [M]; values [D], mpmath at 30 digits, 2-norm values
+Mech. Design 113(3):220-226; the index and its authors [S] via Boschetti et al. 2011;
+definition [M]; values [D], mpmath at 30 digits, 2-norm values
 corrected on 2026-12-04 after an unsplit quadrature had given 0.3749846916 / 0.4360510472).
 For the 2R arm kappa depends on q2 only, so q1 integrates out:
 

@@ -4,12 +4,12 @@ Sources (status from references.md):
 - Salisbury & Craig, "Articulated hands: Force control and kinematic
   issues", IJRR 1(1):4-17, 1982 [C citation]: the isotropic 2R design
   l1 = sqrt(2) l2, q2 = +-135 deg [M numbers, re-derived D].
-- Yoshikawa, "Manipulability of robotic mechanisms", IJRR 4(2):3-9, 1985,
-  and "Dynamic manipulability of robot manipulators", ICRA 1985 [C
-  citations]: w = sqrt(det(J J^T)) = l1 l2 |sin q2|; w_d = |det J| / |det M|
-  [M formula, checked D].
-- Khatib, IEEE J. Robotics and Automation RA-3(1), 1987, eq. 18 [C via a
-  summary]: Lambda = J^-T M J^-1 = (J M^-1 J^T)^-1; Khatib, IJRR 14(1), 1995:
+- Yoshikawa, "Manipulability of robotic mechanisms", IJRR 4(2):3-9, 1985
+  [C citation]: w = sqrt(det(J J^T)) = l1 l2 |sin q2| [M formula, checked D].
+  (Dynamic manipulability, Yoshikawa ICRA 1985, has no public function in the
+  toolkit and is not tested; see the note after the manipulability tests.)
+- Khatib, IEEE J. Robotics and Automation RA-3(1), 1987, eq. 18 [S:
+  secondary summary only]: Lambda = J^-T M J^-1 = (J M^-1 J^T)^-1; Khatib, IJRR 14(1), 1995:
   effective mass m_u = 1 / (u^T J M^-1 J^T u) [M formula].
 - The closed-form Lambda oracles (point masses, uniform rods at q2 = 90 deg,
   payload identity, reflected rotor) are exact consequences of Khatib's
@@ -128,7 +128,7 @@ def gravity_formula(q, p):
 
 
 def lambda_formula(q, p):
-    """Khatib 1987 eq. 18: J^-T M J^-1 with numpy.linalg.inv [C summary]."""
+    """Khatib 1987 eq. 18: J^-T M J^-1 with numpy.linalg.inv [S summary]."""
     Jinv = np.linalg.inv(jacobian_formula(q, p["l1"], p["l2"]))
     return np.swapaxes(Jinv, -1, -2) @ mass_matrix_formula(q, p) @ Jinv
 
@@ -232,7 +232,8 @@ def test_case_a_isotropy_values(q, sigma, inv_kappa, rtol):
        l2=st.floats(0.2, 2.0), m1=st.floats(0.1, 5.0), m2=st.floats(0.1, 5.0))
 def test_isotropy_index_is_kinematic(seed, l1, l2, m1, m2):
     # sigma_min / sigma_max of the task Jacobian (Salisbury & Craig 1982
-    # condition number [C]); masses play no part; numpy SVD of the formula.
+    # condition number [S], via Boschetti et al. 2011); masses play no part;
+    # numpy SVD of the formula.
     q = np.random.default_rng(seed).uniform(-np.pi, np.pi, size=(6, 2))
     arm = planar_2r(geometry(l1, l2, m1, m2))
     # atol as in test_manipulability_formula (Gram-matrix rounding near
@@ -243,7 +244,7 @@ def test_isotropy_index_is_kinematic(seed, l1, l2, m1, m2):
 
 
 # ==========================================================================
-# Yoshikawa (1985): manipulability and dynamic manipulability (item 3)
+# Yoshikawa (1985): manipulability (item 3)
 # ==========================================================================
 @pytest.mark.parametrize("q2, w", [(np.pi / 6, 0.4), (np.pi / 2, 0.8),
                                    (-np.pi / 2, 0.8), (0.0, 0.0)])
@@ -284,43 +285,11 @@ def test_manipulability_best_split_of_fixed_reach():
     assert max(w) == pytest.approx(L**2 / 4, rel=1e-12)
 
 
-def _dynamic_manipulability(arm, q, T=None):
-    """Yoshikawa 1985 (ICRA) dynamic manipulability from the core's M and J.
-
-    w_d = prod sigma(J M^-1 T), T = torque normalisation (identity if None).
-    Computed with numpy from arm.jacobian / arm.mass_matrix (derived check).
-    """
-    J = E_XY.T @ arm.jacobian(q)[..., :3, :]
-    JMi = J @ np.linalg.inv(arm.mass_matrix(q))
-    if T is not None:
-        JMi = JMi @ np.diag(T)
-    return np.linalg.svd(JMi, compute_uv=False)
-
-
-@pytest.mark.parametrize("case, q, w_d, det_m", [
-    ("A", (0.0, np.pi / 2), 2.25, 16 / 45),
-    ("A", (np.pi / 4, np.pi / 6), 1.698113208, 0.2355556),
-    ("B", (np.pi / 4, np.pi / 6), 0.2777777778, 1.44),
-])
-def test_dynamic_manipulability_check_cases(case, q, w_d, det_m):
-    # Yoshikawa 1985 ICRA [C citation, M formula, D]: w_d = |det J| / |det M|
-    # (references.md item 3 check cases; det M 0.2355556 given to 7 digits).
-    arm = planar_2r(CASES[case])
-    q = np.array(q)
-    assert np.linalg.det(arm.mass_matrix(q)) == pytest.approx(det_m, rel=1e-6)
-    assert np.prod(_dynamic_manipulability(arm, q)) == pytest.approx(
-        w_d, rel=1e-9)
-
-
-def test_dynamic_manipulability_singular_values_and_torque_weighting():
-    # references.md item 3 [D]: Case A at (0, pi/2): sigma(J M^-1) =
-    # (3.79890905, 0.5922753), product 2.25; with T = diag(40, 10): 900.
-    arm = planar_2r(CASE_A)
-    q = np.array([0.0, np.pi / 2])
-    np.testing.assert_allclose(_dynamic_manipulability(arm, q),
-                               [3.79890905, 0.5922753], rtol=1e-7)
-    assert np.prod(_dynamic_manipulability(arm, q, TAU_MAX)) == pytest.approx(
-        900.0, rel=1e-9)
+# Yoshikawa's dynamic manipulability w_d = sqrt(det(J (M^T M)^-1 J^T)) (ICRA 1985; for a square
+# J, |det J| / |det M|; references.md item 3) is not tested here: the toolkit has no public
+# function for it, and a test that recomputed it from arm.jacobian and arm.mass_matrix would
+# only re-check J and M, which the closed forms of references.md items 1 and 2 already check
+# (tests/test_reference_planar2r.py, the isotropy and manipulability tests above).
 
 
 # ==========================================================================
@@ -354,7 +323,7 @@ def test_case_b_mass_ratio_to_seven_digits():
 @pytest.mark.parametrize("case, q, lam, eig, ratio, m_x, m_y, rtol",
                          TABLE_ITEM4)
 def test_apparent_mass_table_values(case, q, lam, eig, ratio, m_x, m_y, rtol):
-    # references.md item 4 check cases [D] (Khatib 1987 eq. 18 [C summary];
+    # references.md item 4 check cases [D] (Khatib 1987 eq. 18 [S summary];
     # m_u per Khatib 1995 [M formula]). Case B at (0.3, 2.0): the ratio is
     # 1 / 3.418900874 = 0.29249166 (references.md item 4, corrected: 0.2924917, not 0.2924918),
     # checked at the 1e-9 of the 10-digit eigenvalue like every other entry.
@@ -374,7 +343,7 @@ def test_apparent_mass_table_values(case, q, lam, eig, ratio, m_x, m_y, rtol):
 
 @pytest.mark.parametrize("case", CASES)
 def test_apparent_mass_equals_inverse_jacobian_form(case):
-    # Khatib 1987 eq. 18 [C summary]: for square invertible J,
+    # Khatib 1987 eq. 18 [S summary]: for square invertible J,
     # (J M^-1 J^T)^-1 = J^-T M J^-1, computed here with numpy.linalg.inv
     # (a) from the core's own J and M, (b) from the closed-form J and M.
     p = CASES[case]
@@ -566,7 +535,7 @@ def test_singular_configuration_behaviour(case):
 def test_near_singular_mask():
     # arm-model.md: near_singular = isotropy_index < threshold; expected mask
     # from the numpy SVD of the closed-form Jacobian (Salisbury & Craig
-    # condition number [C]).
+    # condition number [S], via Boschetti et al. 2011).
     arm = planar_2r(CASE_A)
     q2 = np.array([0.0, 1e-4, 3e-3, 0.2, 0.5, np.pi / 2, np.pi - 1e-3, np.pi])
     q = np.stack([np.full_like(q2, 0.7), q2], -1)

@@ -11,8 +11,8 @@ from outside:
 - slider values are compared with the numbers written in the demo design file;
 - the payload identity (a point payload m_L at the tool point adds exactly m_L I to the
   apparent-mass matrix Lambda, so every principal mass grows by m_L) is an exact
-  consequence of Khatib's definition (Khatib 1987, eq. 18 [C via a summary]; Woodbury
-  identity, references.md item 4 [D]).
+  consequence of Khatib's definition (Khatib 1987, eq. 18 [S]: confirmed only through a
+  secondary summary; Woodbury identity, references.md item 4 [D]).
 
 Regions are kept coarse (the demo task region resampled at 40 mm) so the file stays
 fast. The designs are the invented demo designs of ``designs/`` (invented data, no real

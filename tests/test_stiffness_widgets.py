@@ -38,7 +38,7 @@ def plt():
     import matplotlib
 
     matplotlib.use("Agg")
-    import matplotlib.pyplot as pyplot
+    from matplotlib import pyplot
 
     return pyplot
 

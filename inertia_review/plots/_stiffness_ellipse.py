@@ -22,7 +22,7 @@ from ._displays import _plane_from, _q_text, _single_q
 from ._ellipses import plane_ellipses
 from ._style import COLORS
 
-__all__ = ["plot_stiffness_ellipse", "StiffnessEllipseArtists"]
+__all__ = ["StiffnessEllipseArtists", "plot_stiffness_ellipse"]
 
 #: default drawn size [mm] of the longest semi-axis of each ellipse at the first probe
 _SEMI_MM = 40.0
@@ -229,8 +229,8 @@ def plot_stiffness_ellipse(arm, q, *, ax=None, figure=None, plane_axes=None, mas
         if sag_total > 0 and np.linalg.norm(sag_xy) > 1e-9 * sag_total:
             end = sag_xy / sag_total * 0.8 * size
             sag_arrow = ax.annotate("", xy=tuple(end), xytext=(0.0, 0.0), zorder=8,
-                                    arrowprops=dict(arrowstyle="-|>", color=COLORS["ink"],
-                                                    linewidth=1.6, mutation_scale=14))
+                                    arrowprops={"arrowstyle": "-|>", "color": COLORS["ink"],
+                                                "linewidth": 1.6, "mutation_scale": 14})
             handles.append(Line2D([], [], color=COLORS["ink"], marker=">", markersize=6,
                                   linewidth=1.6, label=f"static sag direction (not to scale): "
                                                        f"|sag| = {sag_total:.4f} mm"))

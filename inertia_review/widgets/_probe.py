@@ -156,7 +156,8 @@ class PointProbe(widgets.VBox):
         f1 = f"{art.f1_hz:.1f} Hz" if np.isfinite(art.f1_hz) else "n/a (all joints held)"
         self.stiffness_text.value = (
             f"<div class='ir-stiffness'>tool stiffness in the drawing plane: softest "
-            f"{k_soft:.4g} N/mm at {art.softest_angle_deg:.0f} deg, stiffest {k_stiff:.4g} N/mm; "
+            f"{k_soft:.4g} N/mm at {art.softest_angle_deg:.0f} deg from the plane's first axis, "
+            f"stiffest {k_stiff:.4g} N/mm; "
             f"first natural frequency <b>{f1}</b>, first-mode tool motion ({mode}) in world "
             f"x, y, z; static sag <b>{self.sag_mm:.4f} mm</b> ({sag}) mm</div>")
         self.stiffness_image.value = png_bytes(self._fig_s)

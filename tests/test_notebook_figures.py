@@ -147,6 +147,7 @@ CALLS = {
     "plot_cycle_utilisation": ("plots.plot_cycle_utilisation(cycle)", "CycleUtilisationArtists"),
     "plot_contact_speed_map": ("plots.plot_contact_speed_map(contact)", "ContactMapArtists"),
     "MassEllipseDisplay": ("plots.MassEllipseDisplay.from_arm(arm, q)", "MassEllipseDisplay"),
+    "plot_stiffness_ellipse": ("plots.plot_stiffness_ellipse(arm, q)", "StiffnessEllipseArtists"),
     "TorqueBarsDisplay": ("plots.TorqueBarsDisplay.from_arm(arm, q, 2.0)", "TorqueBarsDisplay"),
     # the style context with plain pyplot: the user's own figure in our look
     "plot_style": ("with plots.plot_style():\n    plt.plot([0.0, 1.0], [0.0, 1.0])", None),

@@ -303,6 +303,27 @@ def stiffness_and_payload():
         new_code_cell("plots.plot_metric_map(maps[0], \"sag\");"),
         new_code_cell("plots.plot_metric_map(maps[0], \"payload_capacity\");"),
         new_code_cell("plots.plot_small_multiples(maps, \"sag\");"),
+        new_markdown_cell("## Stiffness beside apparent mass at the softest point\nAt the grid point "
+                          "of kestrel_a's lowest first natural frequency: the tool-stiffness "
+                          "ellipse (semi-axes 1 / √k, long = soft) over the apparent-mass "
+                          "ellipse (1 / √m, short = heavy), the softest and heaviest in-plane "
+                          "directions, the first mode's tool motion and the sag direction. Where "
+                          "the stiffness ellipse is long and the mass ellipse short, the tool is "
+                          "soft and heavy: the low frequencies live there."),
+        new_code_cell("import numpy as np\n\nf1 = maps[0][\"first_frequency\"].values\n"
+                      "iv, iu = np.unravel_index(np.nanargmin(f1), f1.shape)\n"
+                      "plots.plot_stiffness_ellipse(arms[0], maps[0][\"q\"].values[iv, iu]);"),
+        new_markdown_cell("## Review screens\nThe point probe of the review app shows the "
+                          "stiffness ellipse beside the mass ellipse, with f1, the first mode's "
+                          "tool motion and the sag at the probed point; the app's datasheet card "
+                          "follows the sliders. The comparison board shows one card per design, "
+                          "the best value of each row marked. Every screen carries the stiffness "
+                          "caution."),
+        new_code_cell("from inertia_review.widgets import ComparisonBoard, ReviewApp, snapshot\n\n"
+                      "app = ReviewApp(arms[0])\napp"),
+        new_code_cell("board = ComparisonBoard(arms, arms[0].task)\nboard"),
+        new_code_cell("# NBVAL_IGNORE_OUTPUT\nsnapshot(app, title=\"kestrel_a, baseline settings\")\n"
+                      "snapshot(board, title=\"datasheets of the alternatives\")"),
     ]
 
 

@@ -17,6 +17,8 @@ Design search and sensitivity (:class:`inertia_review.DesignSearch`,
     plot_pareto, plot_tornado
 One configuration (Display objects: ``from_arm``, ``plot``, ``update``)
     MassEllipseDisplay, TorqueBarsDisplay
+One configuration, stiffness (with the stiffness caution)
+    plot_stiffness_ellipse
 
 Apparent-mass ellipses follow Asada's generalized inertia ellipsoid
 x^T Lambda x = 1 (semi-axes 1 / sqrt(mass)): short along heavy directions.
@@ -48,6 +50,7 @@ from ._map_plots import (
 )
 from ._safety_plots import ContactMapArtists, plot_contact_speed_map
 from ._search_plots import ParetoArtists, TornadoArtists, plot_pareto, plot_tornado
+from ._stiffness_ellipse import StiffnessEllipseArtists, plot_stiffness_ellipse
 from ._style import CMAP_DIVERGING, CMAP_SEQUENTIAL, COLORS, plot_style
 from ._tradeoff import TradeoffArtists, plot_tradeoff
 
@@ -64,6 +67,8 @@ __all__ = [
     "CycleUtilisationArtists",
     # contact speeds beside people (always with the caution)
     "plot_contact_speed_map", "ContactMapArtists",
+    # one configuration: tool stiffness beside the apparent mass (always with the caution)
+    "plot_stiffness_ellipse", "StiffnessEllipseArtists",
     # displays
     "MassEllipseDisplay", "TorqueBarsDisplay",
     # result objects

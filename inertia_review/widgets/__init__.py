@@ -5,13 +5,18 @@ DesignControls
 MapPanel
     a chosen metric over the task region, updated in place, with a scores readout
 PointProbe
-    the arm's pose, apparent-mass ellipse, principal masses and torque bars at a point
+    the arm's pose, apparent-mass ellipse beside the tool-stiffness ellipse, principal masses,
+    first natural frequency, sag and torque bars at a point
 ComparisonBoard
-    2 to 4 alternatives on shared colour scales, scores (best marked), a difference map
+    2 to 4 alternatives on shared colour scales, scores and datasheet cards (best marked), a
+    difference map
+datasheet_card_html, datasheet_cards_html
+    HTML cards of ``ir.datasheet`` results (with the stiffness caution)
 SweepExplorer
     parameters and ranges, a run with a progress bar, the trade-off plot, send to board
 ReviewApp, snapshot
-    the quick-review layout; static images and text for saved notebooks
+    the quick-review layout (with the design's datasheet card); static images and text for
+    saved notebooks
 CyclePanel
     move-cycle torques against the ratings (one design, or several side by side)
 ContactBoard
@@ -26,6 +31,7 @@ formulas of their own.
 
 from ._board import ComparisonBoard, scores_table_html
 from ._controls import DesignControls, default_parameters
+from ._datasheet_card import datasheet_card_html, datasheet_cards_html
 from ._map_panel import MAP_METRICS, MapPanel, scores_html
 from ._probe import PointProbe
 from ._review import ReviewApp, snapshot
@@ -34,4 +40,4 @@ from ._sweep_explorer import SweepExplorer
 
 __all__ = ["DesignControls", "MapPanel", "PointProbe", "ComparisonBoard", "SweepExplorer",
            "ReviewApp", "snapshot", "ContactMapPanel", "CyclePanel", "ContactBoard", "default_parameters", "MAP_METRICS", "scores_html",
-           "scores_table_html"]
+           "scores_table_html", "datasheet_card_html", "datasheet_cards_html"]

@@ -7,8 +7,10 @@ import numpy as np
 import traitlets
 
 from ..plots import plot_difference_map, plot_small_multiples
+from ..studies._datasheet import datasheet
 from ..studies._maps import METRIC_ATTRS, metric_map
 from ..studies._scores import BETTER, SCORE_COLUMNS, scores_table
+from ._datasheet_card import datasheet_cards_html
 from ._map_panel import MAP_METRICS
 from ._render import new_figure, png_bytes
 
@@ -43,15 +45,19 @@ def scores_table_html(table):
 
 class ComparisonBoard(widgets.VBox):
     """Two to four alternatives on one region: small multiples on a shared colour scale,
-    the scores table (best per column marked) and a difference map against the baseline.
+    the scores table (best per column marked), one datasheet card per design side by side
+    (best value marked, with the stiffness caution) and a difference map against the baseline.
 
-    Traits: ``arms`` (list of Arm), ``metric``, ``baseline`` (index into ``arms``).
+    Traits: ``arms`` (list of Arm), ``metric``, ``baseline`` (index into ``arms``),
+    ``sheets`` (the :class:`~inertia_review.Datasheet` of each design, ``ir.datasheet`` over
+    its map).
     """
 
     arms = traitlets.List(help="the alternatives (2 to 4 arms)")
     metric = traitlets.Unicode("mass_ratio", help="map variable compared")
     baseline = traitlets.Int(0, help="index of the baseline design for the difference map")
     error = traitlets.Unicode("")
+    sheets = traitlets.List(help="Datasheet of each design over the region, in board order")
 
     def __init__(self, arms, region, *, metric="mass_ratio", map_options=None, **kwargs):
         self._region = region
@@ -62,10 +68,12 @@ class ComparisonBoard(widgets.VBox):
         self.maps_image = widgets.Image(format="png")
         self.diff_image = widgets.Image(format="png", layout=widgets.Layout(width="5.5in"))
         self.table = widgets.HTML()
+        self.cards = widgets.HTML()
         self.message = widgets.HTML()
         self.maps = []
         super().__init__(children=[widgets.HBox([self.metric_choice, self.baseline_choice]),
-                                   self.maps_image, self.table, self.diff_image, self.message],
+                                   self.maps_image, self.table, self.cards, self.diff_image,
+                                   self.message],
                          **kwargs)
         self.metric = metric
         self.baseline_choice.options = [a.name for a in arms]
@@ -108,6 +116,8 @@ class ComparisonBoard(widgets.VBox):
         self.baseline_choice.index = baseline
         self.scores = scores_table(self.maps)
         self.table.value = scores_table_html(self.scores)
+        self.sheets = [datasheet(arm, ds) for arm, ds in zip(self.arms, self.maps)]
+        self.cards.value = datasheet_cards_html(self.sheets)
         self._on_view(None)
 
     def _on_view(self, change):

@@ -1,11 +1,16 @@
 """The quick-review app and static snapshots for saved notebooks (private)."""
 
+import html
+
 import ipywidgets as widgets
 import numpy as np
+import traitlets
 
 from ..review._baselines import baseline_table
 from ..studies._cautions import TORQUE_CAUTION
+from ..studies._datasheet import datasheet
 from ._controls import DesignControls
+from ._datasheet_card import datasheet_card_html
 from ._map_panel import MapPanel
 from ._probe import PointProbe
 from ._render import png_bytes
@@ -14,10 +19,15 @@ __all__ = ["ReviewApp", "snapshot"]
 
 
 class ReviewApp(widgets.VBox):
-    """Design controls, a live map and a point probe for one design, wired together.
+    """Design controls, a live map, a point probe and a datasheet card for one design.
 
-    ``app.controls.arm`` feeds ``app.panel.arm``; the probe follows the panel.
+    ``app.controls.arm`` feeds ``app.panel.arm``; the probe follows the panel. Trait
+    ``datasheet``: the :class:`~inertia_review.Datasheet` of the current map
+    (``ir.datasheet(arm, panel.ds)``), shown as a card with the stiffness caution and
+    recomputed whenever the design changes (the last valid card stays when a map fails).
     """
+
+    datasheet = traitlets.Any(None, help="Datasheet of the current design over the region")
 
     def __init__(self, arm, region=None, *, parameters=None, metric="mass_ratio",
                  map_options=None, **kwargs):
@@ -27,11 +37,26 @@ class ReviewApp(widgets.VBox):
         self.controls = DesignControls(arm, parameters)
         self.panel = MapPanel(arm, region, metric=metric, map_options=map_options)
         self.probe = PointProbe(self.panel)
+        self.card = widgets.HTML()
         widgets.dlink((self.controls, "arm"), (self.panel, "arm"))
         caution = widgets.HTML(f"<div style='font-size:85%;color:#555;max-width:60em'>"
                                f"{TORQUE_CAUTION}</div>")
-        super().__init__(children=[widgets.HBox([self.controls, self.panel]), self.probe, caution],
-                         **kwargs)
+        super().__init__(children=[widgets.HBox([self.controls, widgets.VBox([self.panel,
+                                                                              self.card])]),
+                                   self.probe, caution], **kwargs)
+        self.panel.observe(self._on_design, names="arm")   # after the panel's own recompute
+        self._on_design(None)
+
+    def _on_design(self, change):
+        if self.panel.error or self.panel.ds is None:    # the panel keeps its last valid map
+            return
+        try:
+            sheet = datasheet(self.panel.arm, self.panel.ds)
+        except ValueError as exc:
+            self.card.value = f"<div style='color:#b00020'>{html.escape(str(exc))}</div>"
+            return
+        self.datasheet = sheet
+        self.card.value = datasheet_card_html(sheet)
 
 
 def _images_of(widget):
@@ -79,6 +104,12 @@ def snapshot(widget, *, title=None):
             print(f"{m.attrs.get('design', '')}: permissible contact speed, "
                   f"{m.attrs.get('body_region_name', '')}: lowest {speed.min():.4f} m/s, "
                   f"median {float(np.median(speed)):.4f} m/s")
+    sheets = getattr(widget, "sheets", None) or ([widget.datasheet] if getattr(
+        widget, "datasheet", None) is not None else [])
+    for sheet in sheets:
+        print("\n".join(sheet.lines()[:-1]))
+    if sheets:
+        print(sheets[0].caution)
     for result in getattr(widget, "results", None) or []:
         if hasattr(result, "text"):
             print(result.text())

@@ -10,7 +10,7 @@ import itertools
 import numpy as np
 
 from . import _dynamics, _metrics
-from ._smallmat import cholesky_forward, matmul, sym_eig, transpose
+from ._smallmat import cholesky_forward, lift, matmul, sym_eig, transpose
 
 __all__ = ["payload_capacity", "max_tool_speed", "UNBOUNDED_PAYLOAD_KG", "BISECTION_STEPS"]
 
@@ -54,15 +54,15 @@ def payload_capacity(params, terms, accel_mps2):
     payload at which a joint reaches its rating.
     """
     jv = terms.jacobian[:3]
-    rated = np.isfinite(params.peak_torque)
-    peak = np.where(rated, params.peak_torque, np.inf)[:, None]
+    rated = lift(np.isfinite(params.peak_torque), 1)               # (n, 1) or (n, N)
+    peak = np.where(rated, lift(params.peak_torque, 1), np.inf)
     per_kg = -np.einsum("rjN,r->jN", jv, params.gravity)           # (n, N)
     hold0 = _dynamics.gravity_torque(params, terms.frames) - params.payload_mass * per_kg
     jtj = matmul(transpose(jv), jv)
     mass0 = terms.mass - params.payload_mass * jtj
     with np.errstate(divide="ignore", invalid="ignore"):
         cross_at = (np.sign(per_kg) * peak - hold0) / per_kg
-    cross_at = np.where((per_kg != 0.0) & rated[:, None], cross_at, np.inf)
+    cross_at = np.where((per_kg != 0.0) & rated, cross_at, np.inf)
     cross_at = np.where(np.abs(hold0) > peak, 0.0, np.maximum(cross_at, 0.0))
     static = np.min(cross_at, axis=0)                               # (N,)
     if accel_mps2 <= 0.0:
@@ -73,7 +73,7 @@ def payload_capacity(params, terms, accel_mps2):
         trial = _with_mass(params, terms, mass0 + m * jtj)
         dyn = _metrics._dynamic_row_norms(params, trial)
         demand = np.abs(hold0 + m * per_kg) + accel_mps2 * dyn
-        ratio = np.where(rated[:, None], demand / np.where(rated, peak[:, 0], 1.0)[:, None], -1.0)
+        ratio = np.where(rated, demand / np.where(rated, peak, 1.0), -1.0)
         return np.max(ratio, axis=0) - 1.0
 
     low = np.zeros_like(static)
@@ -131,7 +131,7 @@ def max_tool_speed(params, terms):
     best = np.zeros(jt.shape[-1])
     if not np.all(np.isfinite(limit)):
         return np.full(jt.shape[-1], np.nan)
-    scaled = jt * limit[None, :, None]
+    scaled = jt * lift(limit, 1)[None]
     for signs in itertools.product((1.0, -1.0), repeat=params.n - 1):
         s = np.array((1.0,) + signs)
         v = np.einsum("knN,n->kN", scaled, s)

@@ -49,8 +49,8 @@ class Modes(NamedTuple):
 
 def has_compliance(params):
     """True if any joint or link of the design is elastic."""
-    beams = (params.beam_length > 0.0) & (np.isfinite(params.beam_bending)
-                                          | np.isfinite(params.beam_torsion))
+    beams = (lift(params.beam_length, 1) > 0.0) & (np.isfinite(lift(params.beam_bending, 1))
+                                                   | np.isfinite(lift(params.beam_torsion, 1)))
     return bool(np.any(np.isfinite(params.joint_stiffness)) or np.any(beams))
 
 
@@ -84,7 +84,8 @@ def _beams(params, frames):
     """
     out = {}
     inv_ei, inv_gj = _inverse(params.beam_bending), _inverse(params.beam_torsion)
-    per_config = params.beam_length.ndim == 2
+    per_config = max(params.beam_length.ndim, params.beam_bending.ndim,
+                     params.beam_torsion.ndim) == 2
     for i in range(params.n):
         length = params.beam_length[i]
         if not np.any((length > 0.0) & ((inv_ei[i] != 0.0) | (inv_gj[i] != 0.0))):
@@ -155,7 +156,7 @@ def gravity_sag(params, frames, jacobian):
     hold = _dynamics.gravity_torque(params, frames)              # (n, N)
     dq = -hold * lift(_inverse(params.joint_stiffness), 1)
     sag = matvec(jacobian[:3], dq)
-    per_config = params.body_mass.ndim == 2           # one arm per configuration
+    per_config = params.body_mass.ndim == 2           # masses per configuration
     mass = lift(params.body_mass, 1)                  # (n, 1) or (n, N)
     for i, beam in _beams(params, frames).items():
         theta = np.zeros_like(sag)
@@ -195,13 +196,21 @@ def equivalent_joint_stiffness(params):
     lumped frequencies err low; bending out of the joint's plane of motion is not represented.
     Both quantities are constant in the link frame. inf where the joint and its link are rigid.
     """
-    if params.axis.ndim == 2:
+    if params.axis.ndim == 2 and params.beam_dir.ndim == 2:
         cos = np.einsum("ij,ij->i", params.axis, params.beam_dir)
     else:                                     # one arm per configuration: (n, N)
-        cos = np.sum(params.axis * params.beam_dir, axis=1)
-    lumped = params.beam_length * ((1.0 - cos ** 2) * _inverse(params.beam_bending)
-                                   + cos ** 2 * _inverse(params.beam_torsion))
-    total = _inverse(params.joint_stiffness) + lumped
+        cos = np.sum(lift(params.axis, 2) * lift(params.beam_dir, 2), axis=1)
+    if cos.ndim == 1 and all(x.ndim == 1 for x in (params.beam_length, params.beam_bending,
+                                                 params.beam_torsion, params.joint_stiffness)):
+        def up(x):
+            return x
+    else:                                     # some arrays per configuration: (n, N)
+        def up(x):
+            return lift(x, 1)
+    cos = up(cos)
+    lumped = up(params.beam_length) * ((1.0 - cos ** 2) * up(_inverse(params.beam_bending))
+                                       + cos ** 2 * up(_inverse(params.beam_torsion)))
+    total = up(_inverse(params.joint_stiffness)) + lumped
     return np.where(total > 0.0, 1.0 / np.where(total > 0.0, total, 1.0), np.inf)
 
 

@@ -46,30 +46,49 @@ _SHARED = ("n", "task_axes", "gravity")
 
 
 def stack_params(params_list, repeat=1):
-    """One ``ArmParams`` whose arrays carry a trailing batch axis of len(params_list) * repeat.
+    """One ``ArmParams`` for len(params_list) * repeat configurations.
 
-    Variant v's arrays fill batch entries v * repeat ... (v + 1) * repeat - 1. ``n``, the
-    task axes and gravity must be shared (they set array shapes and the task frame; the
-    first variant's are kept).
+    Arrays that differ between the variants get a trailing batch axis (variant v's fill batch
+    entries v * repeat ... (v + 1) * repeat - 1); arrays equal in every variant are kept as
+    one arm's, which the core kernels broadcast (``core._smallmat.lift``/``pmatmul``), so
+    shared geometry costs no more than for one arm. ``n``, the task axes and gravity must be
+    shared (they set array shapes and the task frame; the first variant's are kept).
     """
     first = params_list[0]
     fields = {}
     for field in dataclasses.fields(ArmParams):
         name = field.name
-        if name in _SHARED:
-            fields[name] = getattr(first, name)
+        value = getattr(first, name)
+        if name in _SHARED or len(params_list) == 1:
+            fields[name] = value
             continue
         stacked = np.stack([getattr(p, name) for p in params_list], axis=-1)
+        ref = stacked[..., :1]
+        if np.all((stacked == ref) | (np.isnan(stacked) & np.isnan(ref))):
+            fields[name] = value
+            continue
         fields[name] = np.repeat(stacked, repeat, axis=-1) if repeat > 1 else stacked
-    fields["payload_mass"] = np.asarray(fields["payload_mass"], float)
+    if len(params_list) > 1 or repeat > 1:
+        fields["payload_mass"] = np.asarray(fields["payload_mass"], float)
     return ArmParams(**fields)
 
 
-def _take(params, index):
-    """Per-configuration params restricted to the batch entries ``index``."""
-    return ArmParams(**{f.name: (getattr(params, f.name) if f.name in _SHARED
-                                 else getattr(params, f.name)[..., index])
-                        for f in dataclasses.fields(ArmParams)})
+def _take(params, index, like):
+    """``params`` (from ``stack_params``) restricted to the batch entries ``index``: the arrays
+    with a batch axis (one more axis than in ``like``, a one-arm ``ArmParams``) are indexed,
+    the shared ones kept."""
+    out = {}
+    for f in dataclasses.fields(ArmParams):
+        value = getattr(params, f.name)
+        per_config = np.ndim(value) > np.ndim(getattr(like, f.name))
+        out[f.name] = value[..., index] if per_config else value
+    return ArmParams(**out)
+
+
+def _lift(x, ndim, count):
+    """A parameter array with the batch axis, broadcast to ``count`` configurations."""
+    x = np.asarray(x)
+    return np.broadcast_to(x[..., None] if x.ndim == ndim else x, x.shape[:ndim] + (count,))
 
 
 def variant_params(spec, values, payload_kg=None):
@@ -84,18 +103,21 @@ def variant_params(spec, values, payload_kg=None):
     return out, build_params(out)
 
 
-def _continue(params, q, targets, *, tolerance, max_iterations):
+def _continue(params, q, targets, *, tolerance, max_iterations, like):
     """Damped least-squares steps from warm starts, all configurations at once.
 
-    ``params`` holds one arm per configuration; ``q`` (n, N) start inside the limits; the
+    ``params`` holds one arm per configuration (``stack_params``; ``like`` one variant's
+    ``ArmParams``); ``q`` (n, N) start inside the limits; the
     steps are clipped to the limits (as ``solve_positions`` does). Returns q and the
     residual [m] (N,).
     """
     a = params.task_axes
-    low, high = params.limits[:, 0], params.limits[:, 1]
+    count = q.shape[1]
+    limits = _lift(params.limits, 2, count)
+    low, high = limits[:, 0], limits[:, 1]
     lengths = (np.sqrt(np.sum(params.joint_position[1:] ** 2, axis=1)).sum(axis=0)
                + np.sqrt(np.sum(params.tool_position ** 2, axis=0)))
-    damping = 1e-3 * lengths
+    damping = np.broadcast_to(1e-3 * lengths, (count,))
     q = q.copy()
     residual = np.full(q.shape[1], np.inf)
     active = np.arange(q.shape[1])
@@ -122,7 +144,7 @@ def _continue(params, q, targets, *, tolerance, max_iterations):
         q[:, active] = np.where(keep, qa, q[:, active])
         if keep.mean() < 0.5:                      # shrink the batch to the unsettled part
             active = active[keep]
-            sub = _take(sub, keep)
+            sub = _take(sub, keep, like)
             sub_targets, sub_low, sub_high = sub_targets[:, keep], sub_low[:, keep], sub_high[:, keep]
             sub_damp = sub_damp[keep]
     return q, residual
@@ -218,8 +240,10 @@ def score_variants(base, variants, region, *, accel_mps2=None, payload_kg=None,
     return out
 
 
+#: the map variables behind the stiffness scores (f1, sag, rated payload)
+_SCORED = ("first_frequency", "sag", "payload_capacity")
 #: configurations per batched metrics pass (bounds the memory of one pass)
-_CHUNK_CONFIGS = 100_000
+_CHUNK_CONFIGS = 8000
 #: the arrays that fix an arm's kinematics (and so its inverse-kinematics solution)
 _KINEMATIC = ("mount_rotation", "mount_position", "joint_rotation", "joint_position", "axis",
               "tool_position", "limits")
@@ -291,9 +315,10 @@ def _solve_group(group, pts, options, previous):
             start[~have] = start[have][near]
             have = np.ones(count, dtype=bool)
         batched = stack_params(params_list, repeat=count)
-        rel = (np.tile(pts.T, (1, v_count)) - batched.mount_position)
+        rel = (np.tile(pts.T, (1, v_count)) - _lift(batched.mount_position, 1, v_count * count))
         q0 = np.tile(np.where(have[:, None], start, 0.0).T, (1, v_count))
-        q_c, residual = _continue(batched, q0, rel, tolerance=tol, max_iterations=iters)
+        q_c, residual = _continue(batched, q0, rel, tolerance=tol, max_iterations=iters,
+                                  like=params_list[0])
         rules = [posture_rule(p) for p in params_list]        # each variant's own rule
         rule = PostureRule(rules[0].shoulder, rules[0].elbow,
                            np.repeat([r.sign for r in rules], count))
@@ -343,7 +368,7 @@ def _score_chunk(items, q, status, region, accel, stiffness):
     index = np.flatnonzero(ok)
     stacked = stack_params(params_list)
     if index.size:
-        params_ok = _take(stacked, index // count)
+        params_ok = _take(stacked, index // count, params_list[0])
         terms = _metrics.task_terms(params_ok, flat_q[index].T)
         values["isotropy"][index] = _metrics.isotropy_index(params_ok, terms)
         values["mass_ratio"][index] = _metrics.mass_ratio(params_ok, terms)
@@ -353,9 +378,9 @@ def _score_chunk(items, q, status, region, accel, stiffness):
             values["limiting_joint"][index] = head.limiting_joint
             values["accel_capability"][index] = _metrics.acceleration_capability(params_ok, terms)
         if stiffness:
-            _stiffness_values(params_ok, terms, accel, values, ok)
+            _stiffness_values(params_ok, terms, accel, values, ok, _SCORED)
     elif stiffness:
-        _stiffness_values(stacked, None, accel, values, ok)
+        _stiffness_values(stacked, None, accel, values, ok, _SCORED)
     rows = []
     for v, (_, vspec, params) in enumerate(items):
         part = slice(v * count, (v + 1) * count)

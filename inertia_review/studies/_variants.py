@@ -243,7 +243,7 @@ def score_variants(base, variants, region, *, accel_mps2=None, payload_kg=None,
 #: the map variables behind the stiffness scores (f1, sag, rated payload)
 _SCORED = ("first_frequency", "sag", "payload_capacity")
 #: configurations per batched metrics pass (bounds the memory of one pass)
-_CHUNK_CONFIGS = 8000
+_CHUNK_CONFIGS = 4000
 #: the arrays that fix an arm's kinematics (and so its inverse-kinematics solution)
 _KINEMATIC = ("mount_rotation", "mount_position", "joint_rotation", "joint_position", "axis",
               "tool_position", "limits")

@@ -33,7 +33,7 @@ from ..model._errors import DesignError
 from ..model._params import ArmParams, build_params
 from ..model._paths import apply_values
 from ..model._regions import Task
-from ._ik import NOT_CONVERGED, OK, OUT_OF_REACH, solve_positions
+from ._ik import NOT_CONVERGED, OUT_OF_REACH, solve_positions
 from ._ik_status import SOLVED
 from ._ik_numeric import reach_bound as _reach_bound, solve_small as _solve_small
 from ._maps import _stiffness_values

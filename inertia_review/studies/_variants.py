@@ -16,6 +16,11 @@ kinematics (``solve_positions``), warm-started across neighbouring variants:
    per-variant path does (same seed table), so the scores equal the per-variant path's
    (``tests/test_variants.py``) up to the solver tolerance.
 
+Variants with identical kinematics (payload, masses, ratings, materials) are solved once.
+The scores then come from one batched pass of the core kernels per ~4,000 configurations
+(``_score_chunk``): one ``task_terms`` shared by isotropy, mass ratio, headroom, acceleration
+capability, first frequency, sag and payload capacity.
+
 Arms that are not spatial three-joint arms on a three-axis task (the continuation's case)
 are solved by ``solve_positions`` per variant (closed form for planar two-joint arms, with
 the neighbour's solution as ``initial_q`` otherwise); the metrics are still batched.

@@ -208,6 +208,8 @@ def _copy_tree(x):
     """A deep copy of a design mapping: dicts, lists and tuples rebuilt, plain scalars shared,
     anything else through ``copy.deepcopy`` (several times faster than deepcopy alone on the
     nested dicts and lists of a design)."""
+    if type(x) in _IMMUTABLE:                  # the common case first
+        return x
     if isinstance(x, dict):
         return {k: _copy_tree(v) for k, v in x.items()}
     if isinstance(x, list):

@@ -134,6 +134,8 @@ def _beyond_sense(name, value):
 
 
 def _is_number(value):
+    if type(value) in (float, int):            # the common case, without the ABC check
+        return True
     return isinstance(value, Real) and not isinstance(value, bool)
 
 

@@ -10,7 +10,7 @@ import itertools
 import numpy as np
 
 from . import _dynamics, _metrics
-from ._smallmat import cholesky_forward, matmul, sym_eig, transpose
+from ._smallmat import cholesky_forward, lift, matmul, sym_eig, transpose
 
 __all__ = ["payload_capacity", "max_tool_speed", "UNBOUNDED_PAYLOAD_KG", "BISECTION_STEPS"]
 
@@ -39,6 +39,38 @@ def _with_mass(params, terms, mass):
                           singular=singular)
 
 
+#: The closed form of ``_linear_force_map`` is used where the payload-free apparent mass
+#: has min/max eigenvalue ratio above this (far from the singular test of ``_metrics``).
+LINEAR_MIN_RATIO = 1.0e-6
+
+
+def _linear_force_map(params, terms):
+    """Row norms of J_t^T Lambda(m) in closed form, for a square task Jacobian (n = k = 3).
+
+    A point payload m adds m J_v^T J_v to M. With J_t = A J_v square and invertible and A
+    orthogonal (three task axes), Lambda(m) = J_t^-T M(m) J_t^-1 = Lambda(m_0) + (m - m_0) I
+    (the payload adds its mass to the apparent mass in every direction), so J_t^T Lambda(m)
+    = F + (m - m_0) J_t^T with F = J_t^T Lambda(m_0), and the squared row norms are the
+    quadratic c0 + 2 dm c1 + dm^2 c2 (Khatib 1987's Lambda; the identity is common practice,
+    no source). Returns None unless n = k = 3; else (fast mask (N,), c0, c1, c2 (n, N)), fast
+    where the payload-free Lambda is far from singular (``LINEAR_MIN_RATIO``); the other
+    configurations keep the eigen-decomposition route.
+    """
+    jt = terms.task_jacobian
+    if not (params.n == 3 and jt.shape[0] == 3):
+        return None
+    fmap, _ = _metrics._force_map(params, terms)                    # (n, k, N)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        mu = 1.0 / terms.eigvals                                    # Lambda's eigenvalues
+    free_low = mu[-1] - params.payload_mass                         # smallest, payload-free
+    free_high = mu[0] - params.payload_mass
+    fast = (~terms.singular & np.all(np.isfinite(mu), axis=0)
+            & (free_low > LINEAR_MIN_RATIO * free_high))
+    jtt = transpose(jt)                                             # (n, k, N)
+    return (fast, np.sum(fmap * fmap, axis=1), np.sum(fmap * jtt, axis=1),
+            np.sum(jtt * jtt, axis=1))
+
+
 def payload_capacity(params, terms, accel_mps2):
     """Largest payload (N,) [kg] with every rated joint within its peak torque.
 
@@ -54,26 +86,36 @@ def payload_capacity(params, terms, accel_mps2):
     payload at which a joint reaches its rating.
     """
     jv = terms.jacobian[:3]
-    rated = np.isfinite(params.peak_torque)
-    peak = np.where(rated, params.peak_torque, np.inf)[:, None]
+    rated = lift(np.isfinite(params.peak_torque), 1)               # (n, 1) or (n, N)
+    peak = np.where(rated, lift(params.peak_torque, 1), np.inf)
     per_kg = -np.einsum("rjN,r->jN", jv, params.gravity)           # (n, N)
     hold0 = _dynamics.gravity_torque(params, terms.frames) - params.payload_mass * per_kg
     jtj = matmul(transpose(jv), jv)
     mass0 = terms.mass - params.payload_mass * jtj
     with np.errstate(divide="ignore", invalid="ignore"):
         cross_at = (np.sign(per_kg) * peak - hold0) / per_kg
-    cross_at = np.where((per_kg != 0.0) & rated[:, None], cross_at, np.inf)
+    cross_at = np.where((per_kg != 0.0) & rated, cross_at, np.inf)
     cross_at = np.where(np.abs(hold0) > peak, 0.0, np.maximum(cross_at, 0.0))
     static = np.min(cross_at, axis=0)                               # (N,)
     if accel_mps2 <= 0.0:
         return static
 
+    linear = _linear_force_map(params, terms)
+
     def excess(m):
         """max over rated joints of demand / peak - 1 (N,): <= 0 where feasible."""
-        trial = _with_mass(params, terms, mass0 + m * jtj)
-        dyn = _metrics._dynamic_row_norms(params, trial)
+        if linear is None:
+            dyn = _metrics._dynamic_row_norms(params, _with_mass(params, terms, mass0 + m * jtj))
+        else:
+            fast, c0, c1, c2 = linear
+            dm = m - params.payload_mass
+            dyn = np.sqrt(np.maximum(c0 + dm * (2.0 * c1 + dm * c2), 0.0))
+            if not np.all(fast):
+                slow = ~fast
+                trial = _with_mass(params, terms, mass0 + m * jtj)
+                dyn = np.where(slow, _metrics._dynamic_row_norms(params, trial), dyn)
         demand = np.abs(hold0 + m * per_kg) + accel_mps2 * dyn
-        ratio = np.where(rated[:, None], demand / np.where(rated, peak[:, 0], 1.0)[:, None], -1.0)
+        ratio = np.where(rated, demand / np.where(rated, peak, 1.0), -1.0)
         return np.max(ratio, axis=0) - 1.0
 
     low = np.zeros_like(static)
@@ -131,7 +173,7 @@ def max_tool_speed(params, terms):
     best = np.zeros(jt.shape[-1])
     if not np.all(np.isfinite(limit)):
         return np.full(jt.shape[-1], np.nan)
-    scaled = jt * limit[None, :, None]
+    scaled = jt * lift(limit, 1)[None]
     for signs in itertools.product((1.0, -1.0), repeat=params.n - 1):
         s = np.array((1.0,) + signs)
         v = np.einsum("knN,n->kN", scaled, s)

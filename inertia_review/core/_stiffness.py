@@ -30,7 +30,7 @@ from typing import NamedTuple
 import numpy as np
 
 from . import _dynamics
-from ._smallmat import cross, matmul, matvec, sym_eig, transpose
+from ._smallmat import cross, lift, matmul, matvec, sym_eig, transpose
 
 __all__ = ["has_compliance", "tool_compliance", "gravity_sag", "equivalent_joint_stiffness",
            "natural_modes", "Modes", "RIGID_RTOL"]
@@ -49,8 +49,8 @@ class Modes(NamedTuple):
 
 def has_compliance(params):
     """True if any joint or link of the design is elastic."""
-    beams = (params.beam_length > 0.0) & (np.isfinite(params.beam_bending)
-                                          | np.isfinite(params.beam_torsion))
+    beams = (lift(params.beam_length, 1) > 0.0) & (np.isfinite(lift(params.beam_bending, 1))
+                                                   | np.isfinite(lift(params.beam_torsion, 1)))
     return bool(np.any(np.isfinite(params.joint_stiffness)) or np.any(beams))
 
 
@@ -62,23 +62,41 @@ class _Beam(NamedTuple):
     start: np.ndarray    # (3, N)
     axis: np.ndarray     # (3, N) unit
     tip: np.ndarray      # (3, N)
-    length: float
+    length: float            # or (N,) with one arm per configuration
     inv_ei: float
     inv_gj: float
 
 
+def _link_vector(rotation, v):
+    """R v for link rotations (3, 3, N) and a link-frame vector (3,) or one per configuration
+    (3, N)."""
+    if v.ndim == 1:
+        return np.einsum("ijN,j->iN", rotation, v)
+    return matvec(rotation, v)
+
+
 def _beams(params, frames):
-    """World geometry of each elastic link beam (rigid or zero-length beams are skipped)."""
+    """World geometry of each elastic link beam (rigid or zero-length beams are skipped).
+
+    With one arm per configuration (arrays with a trailing batch axis) a beam is kept if it
+    is elastic in any configuration; where it is rigid or of zero length its contributions
+    below are exact zeros.
+    """
     out = {}
     inv_ei, inv_gj = _inverse(params.beam_bending), _inverse(params.beam_torsion)
+    per_config = max(params.beam_length.ndim, params.beam_bending.ndim,
+                     params.beam_torsion.ndim) == 2
     for i in range(params.n):
-        length = float(params.beam_length[i])
-        if length <= 0.0 or (inv_ei[i] == 0.0 and inv_gj[i] == 0.0):
+        length = params.beam_length[i]
+        if not np.any((length > 0.0) & ((inv_ei[i] != 0.0) | (inv_gj[i] != 0.0))):
             continue
-        axis = np.einsum("ijN,j->iN", frames.rotation[i], params.beam_dir[i])
+        if not per_config:
+            length, ie, ig = float(length), float(inv_ei[i]), float(inv_gj[i])
+        else:
+            ie, ig = inv_ei[i], inv_gj[i]
+        axis = _link_vector(frames.rotation[i], params.beam_dir[i])
         start = frames.origin[i]
-        out[i] = _Beam(start, axis, start + length * axis, length, float(inv_ei[i]),
-                       float(inv_gj[i]))
+        out[i] = _Beam(start, axis, start + length * axis, length, ie, ig)
     return out
 
 
@@ -114,7 +132,7 @@ def tool_compliance(params, frames, jacobian):
     C = J_v K^-1 J_v^T + sum over beams of the tool displacement per unit tool force.
     """
     jv = jacobian[:3]                                            # (3, n, N)
-    scaled = jv * _inverse(params.joint_stiffness)[None, :, None]
+    scaled = jv * lift(_inverse(params.joint_stiffness), 1)[None]
     comp = matmul(scaled, transpose(jv))
     unit = np.eye(3)[:, :, None]                                 # (load b, 3, 1)
     for beam in _beams(params, frames).values():
@@ -136,31 +154,33 @@ def gravity_sag(params, frames, jacobian):
     """
     g = params.gravity[:, None]
     hold = _dynamics.gravity_torque(params, frames)              # (n, N)
-    dq = -hold * _inverse(params.joint_stiffness)[:, None]
+    dq = -hold * lift(_inverse(params.joint_stiffness), 1)
     sag = matvec(jacobian[:3], dq)
-    mass = params.body_mass
+    per_config = params.body_mass.ndim == 2           # masses per configuration
+    mass = lift(params.body_mass, 1)                  # (n, 1) or (n, N)
     for i, beam in _beams(params, frames).items():
         theta = np.zeros_like(sag)
         delta = np.zeros_like(sag)
-        out_mass = float(np.sum(mass[i + 1:]))
-        if out_mass > 0.0:
-            moment_arm = (np.sum(mass[i + 1:, None, None] * frames.com[i + 1:], axis=0)
+        out_mass = np.sum(mass[i + 1:], axis=0)
+        out_mass = out_mass if per_config else float(out_mass[0])
+        if np.any(out_mass > 0.0):
+            moment_arm = (np.sum(mass[i + 1:, None, :] * frames.com[i + 1:], axis=0)
                           - out_mass * beam.tip)
             force = np.broadcast_to(out_mass * g, sag.shape)
-            t, d = _point_load(beam, force, beam.length, cross(moment_arm, force / out_mass))
+            unit = force / np.where(out_mass > 0.0, out_mass, 1.0)
+            t, d = _point_load(beam, force, beam.length, cross(moment_arm, unit))
             theta, delta = theta + t, delta + d
         for p in range(params.load_mass.shape[1]):
             m = params.load_mass[i, p]
-            if m <= 0.0:
+            if np.all(m <= 0.0):
                 continue
-            x = frames.origin[i] + np.einsum("ijN,j->iN", frames.rotation[i],
-                                             params.load_position[i, p])
+            x = frames.origin[i] + _link_vector(frames.rotation[i], params.load_position[i, p])
             station = np.clip(np.sum((x - beam.start) * beam.axis, axis=0), 0.0, beam.length)
             force = np.broadcast_to(m * g, sag.shape)
             offset = x - (beam.start + station * beam.axis)
             t, d = _point_load(beam, force, station, cross(offset, force))
             theta, delta = theta + t, delta + d
-        if params.beam_self_mass[i] > 0.0:
+        if np.any(params.beam_self_mass[i] > 0.0):
             t, d = _uniform_load(beam, np.broadcast_to(params.beam_self_mass[i] * g, sag.shape))
             theta, delta = theta + t, delta + d
         sag = sag + delta + cross(theta, frames.tool - beam.tip)
@@ -176,10 +196,21 @@ def equivalent_joint_stiffness(params):
     lumped frequencies err low; bending out of the joint's plane of motion is not represented.
     Both quantities are constant in the link frame. inf where the joint and its link are rigid.
     """
-    cos = np.einsum("ij,ij->i", params.axis, params.beam_dir)
-    lumped = params.beam_length * ((1.0 - cos ** 2) * _inverse(params.beam_bending)
-                                   + cos ** 2 * _inverse(params.beam_torsion))
-    total = _inverse(params.joint_stiffness) + lumped
+    if params.axis.ndim == 2 and params.beam_dir.ndim == 2:
+        cos = np.einsum("ij,ij->i", params.axis, params.beam_dir)
+    else:                                     # one arm per configuration: (n, N)
+        cos = np.sum(lift(params.axis, 2) * lift(params.beam_dir, 2), axis=1)
+    if cos.ndim == 1 and all(x.ndim == 1 for x in (params.beam_length, params.beam_bending,
+                                                 params.beam_torsion, params.joint_stiffness)):
+        def up(x):
+            return x
+    else:                                     # some arrays per configuration: (n, N)
+        def up(x):
+            return lift(x, 1)
+    cos = up(cos)
+    lumped = up(params.beam_length) * ((1.0 - cos ** 2) * up(_inverse(params.beam_bending))
+                                       + cos ** 2 * up(_inverse(params.beam_torsion)))
+    total = up(_inverse(params.joint_stiffness)) + lumped
     return np.where(total > 0.0, 1.0 / np.where(total > 0.0, total, 1.0), np.inf)
 
 
@@ -192,17 +223,23 @@ def natural_modes(params, frames, mass, jacobian):
     neglected.
     """
     k = equivalent_joint_stiffness(params)
-    flex = np.flatnonzero(np.isfinite(k))
+    finite = np.isfinite(k)
+    if k.ndim == 2:                           # one arm per configuration: one flexible set
+        if not np.all(finite == finite[:, :1]):
+            raise ValueError("natural_modes: the configurations' arms differ in which joints "
+                             "are flexible")
+        finite = finite[:, 0]
+    flex = np.flatnonzero(finite)
     n, count = params.n, mass.shape[-1]
-    root = 1.0 / np.sqrt(k[flex])
-    a = mass[np.ix_(flex, flex)] * (root[:, None] * root[None, :])[:, :, None]
+    root = lift(1.0 / np.sqrt(k[flex]), 1)                      # (f, 1) or (f, N)
+    a = mass[np.ix_(flex, flex)] * (root[:, None, :] * root[None, :, :])
     mu, vec = sym_eig(a)                                        # ascending mu
     mu, vec = mu[::-1], vec[:, ::-1]                            # ascending frequency
     mu = np.maximum(mu, 1e-300)
     freq = np.full((n, count), np.inf)
     freq[: flex.size] = 1.0 / (2.0 * np.pi * np.sqrt(mu))
     shapes = np.zeros((n, n, count))
-    shapes[np.ix_(flex, np.arange(flex.size))] = vec * root[:, None, None] / np.sqrt(mu)[None]
+    shapes[np.ix_(flex, np.arange(flex.size))] = vec * root[:, None, :] / np.sqrt(mu)[None]
     motion = matvec(jacobian[:3], shapes[:, 0])
     norm = np.sqrt(np.sum(motion * motion, axis=0))
     direction = motion / np.where(norm > 0.0, norm, 1.0)

@@ -8,6 +8,7 @@ problems at the end.
 """
 
 import difflib
+import functools
 import math
 import sys
 from numbers import Real
@@ -100,6 +101,12 @@ def physical_limit(name):
     """(largest magnitude, description) for a field name by its unit suffix, or None."""
     if not isinstance(name, str):
         return None
+    return _physical_limit(name)
+
+
+@functools.lru_cache(maxsize=1024)
+def _physical_limit(name):
+    """``physical_limit`` of a string (memoised: validation asks for the same few names)."""
     best = None
     for suffix, limit in PHYSICAL_LIMITS.items():
         if name.endswith(suffix) and (best is None or len(suffix) > len(best[0])):
@@ -127,6 +134,8 @@ def _beyond_sense(name, value):
 
 
 def _is_number(value):
+    if type(value) in (float, int):            # the common case, without the ABC check
+        return True
     return isinstance(value, Real) and not isinstance(value, bool)
 
 

@@ -208,33 +208,36 @@ def map_arrays(arm, region, *, accel_mps2=None, approach=None, payload_kg=None,
 
 
 
-def _stiffness_values(params, terms, accel, values, flat_ok):
+def _stiffness_values(params, terms, accel, values, flat_ok, names=STIFFNESS_VARIABLES):
     """Stiffness, vibration, payload and speed variables where the design defines them: an
     elastic part for the first three, a peak rating for the payload, a rated speed on every
-    joint for the tool speed (a variable the design cannot define is left out of the map)."""
+    joint for the tool speed (a variable the design cannot define is left out of the map).
+    ``names`` restricts them to a subset (the batched variants compute only what they score)."""
     size = flat_ok.size
     elastic = _stiffness.has_compliance(params)
     rated = bool(np.any(np.isfinite(params.peak_torque)))
     speeds = bool(np.all(np.isfinite(params.rated_speed)))
     for key, wanted in (("first_frequency", elastic), ("sag", elastic), ("stiffness_min", elastic),
                         ("payload_capacity", rated), ("max_tool_speed", speeds)):
-        if wanted:
+        if wanted and key in names:
             values[key] = np.full(size, np.nan)
     if terms is None:
         return
-    if elastic:
+    if "first_frequency" in values:
         modes = _stiffness.natural_modes(params, terms.frames, terms.mass, terms.jacobian)
         values["first_frequency"][flat_ok] = modes.frequencies_hz[0]
+    if "sag" in values:
         sag = _stiffness.gravity_sag(params, terms.frames, terms.jacobian)
         values["sag"][flat_ok] = np.sqrt(np.sum(sag * sag, axis=0))
+    if "stiffness_min" in values:
         comp = _stiffness.tool_compliance(params, terms.frames, terms.jacobian)
         a = params.task_axes
         vals, _ = _metrics.sym_eig(np.einsum("ki,ijN,lj->klN", a, comp, a))
         values["stiffness_min"][flat_ok] = np.where(vals[-1] > 0.0, 1.0 / np.where(
             vals[-1] > 0.0, vals[-1], 1.0), np.inf)
-    if rated:
+    if "payload_capacity" in values:
         values["payload_capacity"][flat_ok] = _payload.payload_capacity(params, terms, accel)
-    if speeds:
+    if "max_tool_speed" in values:
         values["max_tool_speed"][flat_ok] = _payload.max_tool_speed(params, terms)
 
 

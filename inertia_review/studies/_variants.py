@@ -16,6 +16,11 @@ kinematics (``solve_positions``), warm-started across neighbouring variants:
    per-variant path does (same seed table), so the scores equal the per-variant path's
    (``tests/test_variants.py``) up to the solver tolerance.
 
+Variants with identical kinematics (payload, masses, ratings, materials) are solved once.
+The scores then come from one batched pass of the core kernels per ~4,000 configurations
+(``_score_chunk``): one ``task_terms`` shared by isotropy, mass ratio, headroom, acceleration
+capability, first frequency, sag and payload capacity.
+
 Arms that are not spatial three-joint arms on a three-axis task (the continuation's case)
 are solved by ``solve_positions`` per variant (closed form for planar two-joint arms, with
 the neighbour's solution as ``initial_q`` otherwise); the metrics are still batched.
@@ -25,7 +30,7 @@ import dataclasses
 
 import numpy as np
 
-from ..core import _kinematics, _metrics
+from ..core import _kinematics, _metrics, _stiffness
 from ..core._smallmat import matmul, transpose
 from ..model._arm import Arm
 from ..model._design import normalise_design
@@ -33,7 +38,7 @@ from ..model._errors import DesignError
 from ..model._params import ArmParams, build_params
 from ..model._paths import apply_values
 from ..model._regions import Task
-from ._ik import NOT_CONVERGED, OK, OUT_OF_REACH, solve_positions
+from ._ik import NOT_CONVERGED, OUT_OF_REACH, solve_positions
 from ._ik_status import SOLVED
 from ._ik_numeric import reach_bound as _reach_bound, solve_small as _solve_small
 from ._maps import _stiffness_values
@@ -42,32 +47,53 @@ from ._scores import scores_from_arrays
 
 __all__ = ["stack_params", "score_variants", "variant_params"]
 
-_SHARED = ("n", "task_axes")
+_SHARED = ("n", "task_axes", "gravity")
 
 
 def stack_params(params_list, repeat=1):
-    """One ``ArmParams`` whose arrays carry a trailing batch axis of len(params_list) * repeat.
+    """One ``ArmParams`` for len(params_list) * repeat configurations.
 
-    Variant v's arrays fill batch entries v * repeat ... (v + 1) * repeat - 1. ``n`` and the
-    task axes must be shared (they set array shapes and the task frame).
+    Arrays that differ between the variants get a trailing batch axis (variant v's fill batch
+    entries v * repeat ... (v + 1) * repeat - 1); arrays equal in every variant are kept as
+    one arm's, which the core kernels broadcast (``core._smallmat.lift``/``pmatmul``), so
+    shared geometry costs no more than for one arm. ``n``, the task axes and gravity must be
+    shared (they set array shapes and the task frame; the first variant's are kept).
     """
     first = params_list[0]
     fields = {}
     for field in dataclasses.fields(ArmParams):
         name = field.name
-        if name in _SHARED:
-            fields[name] = getattr(first, name)
+        value = getattr(first, name)
+        if name in _SHARED or len(params_list) == 1:
+            fields[name] = value
             continue
         stacked = np.stack([getattr(p, name) for p in params_list], axis=-1)
+        ref = stacked[..., :1]
+        if np.all((stacked == ref) | (np.isnan(stacked) & np.isnan(ref))):
+            fields[name] = value
+            continue
         fields[name] = np.repeat(stacked, repeat, axis=-1) if repeat > 1 else stacked
+    if len(params_list) > 1 or repeat > 1:
+        fields["payload_mass"] = np.asarray(fields["payload_mass"], float)
     return ArmParams(**fields)
 
 
-def _take(params, index):
-    """Per-configuration params restricted to the batch entries ``index``."""
-    return ArmParams(**{f.name: (getattr(params, f.name) if f.name in _SHARED
-                                 else getattr(params, f.name)[..., index])
-                        for f in dataclasses.fields(ArmParams)})
+def _take(params, index, like):
+    """``params`` (from ``stack_params``) restricted to the batch entries ``index``: the arrays
+    with a batch axis (one more axis than in ``like``, a one-arm ``ArmParams``) are indexed,
+    the shared ones kept."""
+    out = {}
+    for f in dataclasses.fields(ArmParams):
+        value = getattr(params, f.name)
+        per_config = np.ndim(value) > np.ndim(getattr(like, f.name))
+        out[f.name] = value[..., index] if per_config else value
+    return ArmParams(**out)
+
+
+def _lift(x, ndim, count):
+    """A parameter array with the batch axis, broadcast to ``count`` configurations."""
+    x = np.asarray(x)
+    return np.broadcast_to(x[..., None] if x.ndim == ndim else x, x.shape[:ndim] + (count,))
 
 
 def variant_params(spec, values, payload_kg=None):
@@ -82,18 +108,21 @@ def variant_params(spec, values, payload_kg=None):
     return out, build_params(out)
 
 
-def _continue(params, q, targets, *, tolerance, max_iterations):
+def _continue(params, q, targets, *, tolerance, max_iterations, like):
     """Damped least-squares steps from warm starts, all configurations at once.
 
-    ``params`` holds one arm per configuration; ``q`` (n, N) start inside the limits; the
+    ``params`` holds one arm per configuration (``stack_params``; ``like`` one variant's
+    ``ArmParams``); ``q`` (n, N) start inside the limits; the
     steps are clipped to the limits (as ``solve_positions`` does). Returns q and the
     residual [m] (N,).
     """
     a = params.task_axes
-    low, high = params.limits[:, 0], params.limits[:, 1]
+    count = q.shape[1]
+    limits = _lift(params.limits, 2, count)
+    low, high = limits[:, 0], limits[:, 1]
     lengths = (np.sqrt(np.sum(params.joint_position[1:] ** 2, axis=1)).sum(axis=0)
                + np.sqrt(np.sum(params.tool_position ** 2, axis=0)))
-    damping = 1e-3 * lengths
+    damping = np.broadcast_to(1e-3 * lengths, (count,))
     q = q.copy()
     residual = np.full(q.shape[1], np.inf)
     active = np.arange(q.shape[1])
@@ -120,7 +149,7 @@ def _continue(params, q, targets, *, tolerance, max_iterations):
         q[:, active] = np.where(keep, qa, q[:, active])
         if keep.mean() < 0.5:                      # shrink the batch to the unsettled part
             active = active[keep]
-            sub = _take(sub, keep)
+            sub = _take(sub, keep, like)
             sub_targets, sub_low, sub_high = sub_targets[:, keep], sub_low[:, keep], sub_high[:, keep]
             sub_damp = sub_damp[keep]
     return q, residual
@@ -154,7 +183,10 @@ def score_variants(base, variants, region, *, accel_mps2=None, payload_kg=None,
     accel_mps2, payload_kg, posture :
         As for :func:`inertia_review.metric_map` ('elbow_up' or 'elbow_down').
     group_size : int
-        Variants that continue from one anchor solution (one batched pass each).
+        Variants of distinct kinematics that continue from one anchor solution (one batched
+        pass each). Variants with the same kinematics (e.g. a payload or material sweep)
+        share one inverse-kinematics solution, which is what the per-variant path computes
+        for each of them.
     exact : bool, default True
         Solve the points the continuation leaves unsettled (inside the reach bound) again
         with ``solve_positions``, exactly as the per-variant path does. With False they
@@ -179,7 +211,8 @@ def score_variants(base, variants, region, *, accel_mps2=None, payload_kg=None,
     points, _ = region.sample()
     pts = points.reshape(-1, 3)
     count = pts.shape[0]
-    table_size = int(min(16384, max(2048, 4 * count)))
+    options = {"table_size": int(min(16384, max(2048, 4 * count))), "tol": tolerance_m,
+               "iters": max_iterations, "exact": exact, "posture": posture}
     out = [None] * len(variants)
     built = []
     for index, values in enumerate(variants):
@@ -189,25 +222,68 @@ def score_variants(base, variants, region, *, accel_mps2=None, payload_kg=None,
             out[index] = (None, str(exc))
             continue
         built.append((index, vspec, params))
-    # groups of neighbours sharing the shapes and frames the batch needs
-    groups, current, key = [], [], None
+    # runs of neighbours sharing the shapes, frames and model options one batch needs
+    runs, current, key = [], [], None
     for item in built:
-        p = item[2]
-        k = (p.n, p.task_axes.tobytes(), p.gravity.tobytes())
-        if current and (k != key or len(current) >= group_size):
-            groups.append(current)
+        k = _batch_key(item[2])
+        if current and k != key:
+            runs.append(current)
             current = []
         current.append(item)
         key = k
     if current:
-        groups.append(current)
+        runs.append(current)
     previous = None
-    for group in groups:
-        rows, previous = _score_group(group, pts, region, accel, posture, table_size,
-                                      tolerance_m, max_iterations, previous, exact, stiffness)
-        for (index, _, _), row in zip(group, rows):
-            out[index] = (row, "")
+    chunk = max(1, _CHUNK_CONFIGS // max(count, 1))
+    for run in runs:
+        q, status, previous = _solve_run(run, pts, options, int(group_size), previous)
+        for lo in range(0, len(run), chunk):
+            part = slice(lo, lo + chunk)
+            rows = _score_chunk(run[part], q[part], status[part], region, accel, stiffness)
+            for (index, _, _), row in zip(run[part], rows):
+                out[index] = (row, "")
     return out
+
+
+#: the map variables behind the stiffness scores (f1, sag, rated payload)
+_SCORED = ("first_frequency", "sag", "payload_capacity")
+#: configurations per batched metrics pass (bounds the memory of one pass)
+_CHUNK_CONFIGS = 4000
+#: the arrays that fix an arm's kinematics (and so its inverse-kinematics solution)
+_KINEMATIC = ("mount_rotation", "mount_position", "joint_rotation", "joint_position", "axis",
+              "tool_position", "limits")
+
+
+def _batch_key(p):
+    """What variants must share to be batched together: array shapes, task frame, gravity,
+    and which joints are rated, elastic or speed-rated (which map variables exist)."""
+    return (p.n, p.task_axes.tobytes(), p.gravity.tobytes(), p.load_mass.shape,
+            np.isfinite(p.peak_torque).tobytes(), np.isfinite(p.rated_speed).tobytes(),
+            np.isfinite(_stiffness.equivalent_joint_stiffness(p)).tobytes(),
+            _stiffness.has_compliance(p))
+
+
+def _kinematic_key(p):
+    return b"".join(np.ascontiguousarray(getattr(p, name)).tobytes() for name in _KINEMATIC)
+
+
+def _solve_run(run, pts, options, group_size, previous):
+    """Joint angles (V, P, n) and status (V, P) of a run of variants: one solve per distinct
+    kinematics, in groups of ``group_size`` neighbours (``_solve_group``)."""
+    classes, owner, reps = {}, [], []
+    for item in run:
+        key = _kinematic_key(item[2])
+        if key not in classes:
+            classes[key] = len(reps)
+            reps.append(item)
+        owner.append(classes[key])
+    q_parts, s_parts = [], []
+    for lo in range(0, len(reps), group_size):
+        q, status, previous = _solve_group(reps[lo:lo + group_size], pts, options, previous)
+        q_parts.append(q)
+        s_parts.append(status)
+    owner = np.asarray(owner)
+    return np.concatenate(q_parts)[owner], np.concatenate(s_parts)[owner], previous
 
 
 def _solve_one(vspec, params, pts, posture, table_size, initial_q=None, tolerance_m=1e-9,
@@ -218,8 +294,11 @@ def _solve_one(vspec, params, pts, posture, table_size, initial_q=None, toleranc
                            initial_q=initial_q)
 
 
-def _score_group(group, pts, region, accel, posture, table_size, tol, iters, previous, exact,
-                 stiffness=True):
+def _solve_group(group, pts, options, previous):
+    """IK of a group of neighbouring variants (distinct kinematics): (q (V, P, n), status
+    (V, P), the anchor's solution for the next group)."""
+    posture, table_size = options["posture"], options["table_size"]
+    tol, iters, exact = options["tol"], options["iters"], options["exact"]
     params_list = [p for _, _, p in group]
     n, k = params_list[0].n, params_list[0].task_axes.shape[0]
     count = pts.shape[0]
@@ -241,9 +320,10 @@ def _score_group(group, pts, region, accel, posture, table_size, tol, iters, pre
             start[~have] = start[have][near]
             have = np.ones(count, dtype=bool)
         batched = stack_params(params_list, repeat=count)
-        rel = (np.tile(pts.T, (1, v_count)) - batched.mount_position)
+        rel = (np.tile(pts.T, (1, v_count)) - _lift(batched.mount_position, 1, v_count * count))
         q0 = np.tile(np.where(have[:, None], start, 0.0).T, (1, v_count))
-        q_c, residual = _continue(batched, q0, rel, tolerance=tol, max_iterations=iters)
+        q_c, residual = _continue(batched, q0, rel, tolerance=tol, max_iterations=iters,
+                                  like=params_list[0])
         rules = [posture_rule(p) for p in params_list]        # each variant's own rule
         rule = PostureRule(rules[0].shoulder, rules[0].elbow,
                            np.repeat([r.sign for r in rules], count))
@@ -274,50 +354,44 @@ def _score_group(group, pts, region, accel, posture, table_size, tol, iters, pre
             q[v], status[v] = sol.q, sol.status
             if n != 2 or k != 2:
                 previous = np.where(np.isin(sol.status, SOLVED)[:, None], sol.q, np.nan)
+    return q, status, previous
+
+
+def _score_chunk(items, q, status, region, accel, stiffness):
+    """Score rows of variants ``items`` from their solutions q (V, P, n), status (V, P): every
+    metric in one batched pass over all their solved points (one arm per configuration),
+    sharing the task terms (frames, Jacobian, mass matrix, mobility) between the scores."""
+    params_list = [p for _, _, p in items]
+    count, n = q.shape[1:]
     ok = np.isin(status, SOLVED).reshape(-1)
     flat_q = q.reshape(-1, n)
-    rated_any = [bool(np.any(np.isfinite(p.peak_torque))) for p in params_list]
-    values = {"isotropy": np.full(ok.size, np.nan), "mass_ratio": np.full(ok.size, np.nan),
-              "min_margin": np.full(ok.size, np.nan), "limiting_joint": np.full(ok.size, -1),
-              "accel_capability": np.full(ok.size, np.nan)}
+    rated = bool(np.any(np.isfinite(params_list[0].peak_torque)))   # shared within a run
+    values = {"isotropy": np.full(ok.size, np.nan), "mass_ratio": np.full(ok.size, np.nan)}
+    if rated:
+        values.update(min_margin=np.full(ok.size, np.nan), limiting_joint=np.full(ok.size, -1),
+                      accel_capability=np.full(ok.size, np.nan))
     index = np.flatnonzero(ok)
+    stacked = stack_params(params_list)
     if index.size:
-        owner = index // count
-        params_ok = stack_params(params_list)
-        params_ok = _take(params_ok, owner)
+        params_ok = _take(stacked, index // count, params_list[0])
         terms = _metrics.task_terms(params_ok, flat_q[index].T)
         values["isotropy"][index] = _metrics.isotropy_index(params_ok, terms)
         values["mass_ratio"][index] = _metrics.mass_ratio(params_ok, terms)
-        if any(rated_any):
+        if rated:
             head = _metrics.torque_headroom(params_ok, terms, accel)
             values["min_margin"][index] = head.min_margin
             values["limiting_joint"][index] = head.limiting_joint
             values["accel_capability"][index] = _metrics.acceleration_capability(params_ok, terms)
-    rows = []
-    for v, (_, vspec, params) in enumerate(group):
-        part = slice(v * count, (v + 1) * count)
-        arrays = {"status": status[v], "isotropy": values["isotropy"][part],
-                  "mass_ratio": values["mass_ratio"][part]}
-        if rated_any[v]:
-            for name in ("min_margin", "limiting_joint", "accel_capability"):
-                arrays[name] = values[name][part]
         if stiffness:
-            arrays.update(_stiffness_arrays(params, q[v], ok[part], accel))
-        arm = Arm(vspec, params)
+            _stiffness_values(params_ok, terms, accel, values, ok, _SCORED)
+    elif stiffness:
+        _stiffness_values(stacked, None, accel, values, ok, _SCORED)
+    rows = []
+    for v, (_, vspec, params) in enumerate(items):
+        part = slice(v * count, (v + 1) * count)
+        arrays = {name: arr[part] for name, arr in values.items()}
+        arrays["status"] = status[v]
         attrs = {"design": vspec["name"], "cell_measure": region.cell_measure,
-                 "moving_mass_kg": arm.moving_mass}
+                 "moving_mass_kg": float(np.sum(params.body_mass))}    # as Arm.moving_mass
         rows.append(scores_from_arrays(arrays, attrs, [j["name"] for j in vspec["joints"]]))
-    return rows, previous
-
-
-def _stiffness_arrays(params, q, ok, accel):
-    """f1, sag, stiffness, payload and tool speed of one variant at its solved points (the
-    map's own kernels, batched over the points; one call per variant, as each variant has its
-    own beams and springs)."""
-    values = {}
-    if not ok.any():
-        _stiffness_values(params, None, accel, values, ok)
-        return values
-    terms = _metrics.task_terms(params, q[ok].T)
-    _stiffness_values(params, terms, accel, values, ok)
-    return values
+    return rows

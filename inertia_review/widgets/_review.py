@@ -79,8 +79,11 @@ def snapshot(widget, *, title=None):
             print(f"{m.attrs.get('design', '')}: permissible contact speed, "
                   f"{m.attrs.get('body_region_name', '')}: lowest {speed.min():.4f} m/s, "
                   f"median {float(np.median(speed)):.4f} m/s")
-    for result in getattr(widget, "results", None) or []:
+    results = getattr(widget, "results", None)
+    for result in results if isinstance(results, (list, tuple)) else []:
         if hasattr(result, "text"):
             print(result.text())
+    if hasattr(widget, "snapshot_text"):
+        print(widget.snapshot_text())
     print(caution)
     return None

@@ -125,3 +125,35 @@ def test_bad_input_names_the_path():
     with pytest.raises(ValueError, match="infeasible problem.*derived.reach_m <= 0.1"):
         DesignSearch(arm, space, ["max:gci"], ["derived.reach_m <= 0.1"], region=region,
                      generations=2, population=6, progress=False).run(random_state=0)
+
+
+def test_discrete_choices_are_searched_and_reported_exactly():
+    # a gear ratio from a catalogue list: every evaluated value is one of the choices,
+    # and the proposal written out carries it
+    arm = ir.load_design("designs/kestrel_a.toml")
+    choices = [50.0, 80.0, 120.0]
+    search = DesignSearch(arm, {"joints[shoulder].actuator.gear_ratio": choices,
+                                "joints[shoulder].link_length_m": (0.30, 0.40)},
+                          ["max:gci", "max:headroom_worst"], region=SMALL, generations=2,
+                          population=6, progress=False).run(random_state=2)
+    used = search.results_["joints[shoulder].actuator.gear_ratio"].values
+    assert set(np.unique(used)) <= set(choices)
+    i = int(np.flatnonzero(search.results_["pareto"].values)[0])
+    values = ir.parameter_paths(search.design(i))
+    assert values["joints[shoulder].actuator.gear_ratio"] == used[i]
+
+
+@pytest.mark.parametrize("entry, reason", [(["steel", "aluminium"], "choices must be numbers"),
+                                           ([80.0], "at least two finite numbers"),
+                                           ([80.0, -5.0], "-5 of the search space is not "
+                                                          "accepted")])
+def test_bad_choices_name_the_path(entry, reason):
+    arm = ir.load_design("designs/kestrel_a.toml")
+    search = DesignSearch(arm, {"joints[shoulder].actuator.gear_ratio": entry}, ["max:gci"],
+                          region=SMALL, progress=False)
+    with pytest.raises(ir.DesignError, match=r"joints\[shoulder\]\.actuator\.gear_ratio"):
+        try:
+            search.run()
+        except ir.DesignError as exc:
+            assert reason in str(exc)
+            raise

@@ -95,7 +95,12 @@ def check_space(spec, space):
                                                         f"high; got {entry!r}"))])
             ends, options = (low, high), None
         else:
-            options = np.asarray(list(entry), float)
+            try:
+                options = np.asarray(list(entry), float)
+            except (TypeError, ValueError):
+                raise DesignError(spec["name"], [(path, (f"choices must be numbers (the path "
+                                                        f"holds a number); got {entry!r}"))]) \
+                    from None
             if options.size < 2 or not np.all(np.isfinite(options)):
                 raise DesignError(spec["name"], [(path, ("choices must be a list of at least "
                                                         "two finite numbers"))])

@@ -128,28 +128,53 @@ def test_bad_input_names_the_path():
 
 
 def test_paths_that_overwrite_each_other_are_refused_before_any_evaluation():
-    """A link's length and the link ratio both set that link: a result would not describe
-    its design (the table would report a ratio the evaluated arm does not have)."""
+    """A link vector's entry and that link's length both set the link: a result would not
+    describe its design (the table would report a value the evaluated arm does not have)."""
     arm = ir.demo_design("kestrel_a")
-    coupled = {"joints[shoulder].link_length_m": (0.25, 0.45), "derived.link_ratio": (0.6, 1.2)}
-    with pytest.raises(ir.DesignError, match=r"derived.link_ratio: set to 0.9 .*"
+    coupled = {"joints[elbow].xyz_m[0]": (0.25, 0.45), "joints[shoulder].link_length_m": (0.3, 0.4)}
+    with pytest.raises(ir.DesignError, match=r"joints\[elbow\]\.xyz_m\[0\]: set to 0.316667 .*"
                                              r"'joints\[shoulder\].link_length_m'"):
         DesignSearch(arm, coupled, ["max:gci"], region=SMALL, progress=False).run(random_state=0)
     with pytest.raises(ir.DesignError, match="change the same quantity"):
-        arm.with_values({"joints[shoulder].link_length_m": 0.30, "derived.link_ratio": 1.1})
-    # independent paths read back exactly what they were given
-    values = {"joints[shoulder].link_length_m": 0.30, "joints[elbow].link_length_m": 0.33,
+        ir.global_sensitivity(arm, coupled, "gci", region=SMALL)
+    # one at a time moves each path alone, so nothing is overwritten there
+    table = ir.one_at_a_time(arm, coupled, "gci", region=SMALL)
+    assert list(table.index) == list(coupled)
+    # a link's length with the link ratio is met together, and both read back exactly
+    values = {"joints[shoulder].link_length_m": 0.30, "derived.link_ratio": 1.1,
               "mount.rpy_deg[1]": 12.0}
     got = ir.parameter_paths(arm.with_values(values))
     assert all(got[p] == pytest.approx(v, rel=1e-12) for p, v in values.items())
-    assert got["derived.link_ratio"] == pytest.approx(0.33 / 0.30, rel=1e-12)
+    assert got["joints[elbow].link_length_m"] == pytest.approx(0.33, rel=1e-12)
 
 
-def test_one_at_a_time_accepts_coupled_paths_but_global_sensitivity_refuses_them():
-    """One at a time moves each path alone (no overwriting); the global methods move all."""
-    arm = ir.demo_design("kestrel_a")
-    coupled = {"joints[shoulder].link_length_m": (0.30, 0.40), "derived.link_ratio": (0.8, 1.0)}
-    table = ir.one_at_a_time(arm, coupled, "gci", region=SMALL)
-    assert list(table.index) == list(coupled)
-    with pytest.raises(ir.DesignError, match="change the same quantity"):
-        ir.global_sensitivity(arm, coupled, "gci", region=SMALL)
+def test_discrete_choices_are_searched_and_reported_exactly():
+    # a gear ratio from a catalogue list: every evaluated value is one of the choices,
+    # and the proposal written out carries it
+    arm = ir.load_design("designs/kestrel_a.toml")
+    choices = [50.0, 80.0, 120.0]
+    search = DesignSearch(arm, {"joints[shoulder].actuator.gear_ratio": choices,
+                                "joints[shoulder].link_length_m": (0.30, 0.40)},
+                          ["max:gci", "max:headroom_worst"], region=SMALL, generations=2,
+                          population=6, progress=False).run(random_state=2)
+    used = search.results_["joints[shoulder].actuator.gear_ratio"].values
+    assert set(np.unique(used)) <= set(choices)
+    i = int(np.flatnonzero(search.results_["pareto"].values)[0])
+    values = ir.parameter_paths(search.design(i))
+    assert values["joints[shoulder].actuator.gear_ratio"] == used[i]
+
+
+@pytest.mark.parametrize("entry, reason", [(["steel", "aluminium"], "choices must be numbers"),
+                                           ([80.0], "at least two finite numbers"),
+                                           ([80.0, -5.0], "-5 of the search space is not "
+                                                          "accepted")])
+def test_bad_choices_name_the_path(entry, reason):
+    arm = ir.load_design("designs/kestrel_a.toml")
+    search = DesignSearch(arm, {"joints[shoulder].actuator.gear_ratio": entry}, ["max:gci"],
+                          region=SMALL, progress=False)
+    with pytest.raises(ir.DesignError, match=r"joints\[shoulder\]\.actuator\.gear_ratio"):
+        try:
+            search.run()
+        except ir.DesignError as exc:
+            assert reason in str(exc)
+            raise

@@ -256,6 +256,18 @@ def design_search():
                       "values = ir.parameter_paths(proposal)\n"
                       "print(proposal.name, {p: round(values[p], 4) for p in space})\n"
                       "print(\"GCI of the file read back:\", round(float(ir.design_scores(ir.metric_map(proposal, proposal.task))[\"gci\"]), 4))"),
+        new_markdown_cell("## Panels\nThe proposal explorer shows the Pareto plot: click a point "
+                          "(or choose a row in the dropdown) to see its parameters and scores, load "
+                          "it into a review app and add it to a comparison board next to the "
+                          "baseline design. The sensitivity panel draws the tornado chart of the "
+                          "score chosen in its dropdown."),
+        new_code_cell("from inertia_review.widgets import ProposalExplorer, SensitivityPanel, snapshot\n\n"
+                      "explorer = ProposalExplorer(search, \"gci\", \"headroom_worst\")\n"
+                      "explorer.selected = explorer.proposals[-1]   # the highest-GCI proposal\n"
+                      "explorer"),
+        new_code_cell("sensitivity = SensitivityPanel(arm, vary, score=\"gci\")\nsensitivity"),
+        new_code_cell("# NBVAL_IGNORE_OUTPUT\nsnapshot(explorer, title=\"proposal explorer\")\n"
+                      "snapshot(sensitivity, title=\"one-at-a-time sensitivity of GCI\")"),
     ]
 
 

@@ -221,17 +221,75 @@ def _copy_tree(x):
     return copy.deepcopy(x)
 
 
+def _derived_lengths(spec, values):
+    """Lengths (la, lb) of the last two links when derived values are given, or None.
+
+    A derived value alone keeps the other quantity of the pair (a new ratio keeps the
+    reach, a new reach keeps the ratio); given with the length of one of the two links
+    (``joints[j].link_length_m``), it keeps that length as given. More values than the two
+    lengths can meet raise, naming the paths.
+    """
+    derived = [p for p in values if p.startswith("derived.")]
+    if not derived:
+        return None, set()
+    for path in derived:
+        try:
+            get_value(spec, path)
+        except KeyError as exc:                     # unknown name, too few joints
+            raise DesignError(spec["name"], [(path, str(exc.args[0]).split(": ", 1)[-1])]) \
+                from None
+    a, b = _last_two(spec, derived[0])
+    fixed = {}
+    for path, value in values.items():
+        tokens = _tokens(path)
+        if tokens[0][0] == "joints" and len(tokens) == 2 and tokens[1][0] == "link_length_m":
+            j = resolve_joint(spec, tokens[0][1] or "", path)
+            if j in (a, b):
+                fixed[j] = (path, float(value))
+    if len(derived) + len(fixed) > 2:
+        raise DesignError(spec["name"], [(p, "over-determined: the lengths of the last two "
+                                             "links cannot meet all of "
+                                             f"{', '.join(sorted(derived) + [f[0] for f in fixed.values()])}")
+                                         for p in derived])
+    la, lb = _link_length(spec, a), _link_length(spec, b)
+    reach = float(values.get("derived.reach_m", la + lb))
+    ratio = float(values.get("derived.link_ratio", lb / la if la > 0 else np.nan))
+    if a in fixed:
+        la = fixed[a][1]
+        lb = ratio * la if "derived.link_ratio" in values else reach - la
+    elif b in fixed:
+        lb = fixed[b][1]
+        la = lb / ratio if "derived.link_ratio" in values else reach - lb
+    else:
+        la, lb = reach / (1.0 + ratio), reach * ratio / (1.0 + ratio)
+    for length in (la, lb):
+        if not (np.isfinite(length) and length > 0.0):
+            raise DesignError(spec["name"], [(p, f"gives a link length of {length:g} m; the "
+                                                 "last two links need positive lengths")
+                                             for p in derived])
+    return (a, la, b, lb), {f[0] for f in fixed.values()}
+
+
 def apply_values(spec, values):
-    """A deep copy of ``spec`` with every ``{path: value}`` applied (derived ones first)."""
+    """A deep copy of ``spec`` with every ``{path: value}`` applied (derived ones first).
+
+    Derived values and a length of one of the last two links given together are met
+    together (see ``_derived_lengths``): e.g. ``{"joints[1].link_length_m": 0.3,
+    "derived.link_ratio": 0.8}`` gives links of 0.3 m and 0.24 m.
+    """
     out = _copy_tree(spec)
-    ordered = sorted(values.items(), key=lambda kv: 0 if kv[0].startswith("derived.") else 1)
-    if "derived.reach_m" in values and "derived.link_ratio" in values:
-        reach, ratio = float(values["derived.reach_m"]), float(values["derived.link_ratio"])
-        a, b = _last_two(out, "derived.reach_m")
-        _scale_link(out, a, reach / (1.0 + ratio), "derived.reach_m")
-        _scale_link(out, b, reach * ratio / (1.0 + ratio), "derived.link_ratio")
-        ordered = [kv for kv in ordered if kv[0] not in ("derived.reach_m", "derived.link_ratio")]
-    for path, value in ordered:
+    lengths, done = _derived_lengths(out, values)
+    if lengths is not None:
+        a, la, b, lb = lengths
+        path = next(p for p in values if p.startswith("derived."))
+        try:
+            _scale_link(out, a, la, path)
+            _scale_link(out, b, lb, path)
+        except (KeyError, ValueError) as exc:
+            raise DesignError(spec["name"], [(path, str(exc.args[0]).split(": ", 1)[-1])]) from None
+    for path, value in values.items():
+        if path.startswith("derived.") or path in done:
+            continue
         try:
             _set(out, path, value)
         except (KeyError, ValueError) as exc:
@@ -242,7 +300,7 @@ def apply_values(spec, values):
 
 
 def _check_read_back(name, spec, values):
-    """Refuse paths that overwrite each other (e.g. a link's length and the link ratio).
+    """Refuse paths that overwrite each other (e.g. a link vector's entry and its length).
 
     Every path must read back the value it was given once all are applied; otherwise a
     result table would report a value the evaluated design does not have.
@@ -254,8 +312,8 @@ def _check_read_back(name, spec, values):
             raise DesignError(name, [(path, (
                 f"set to {float(value):.6g} but the design has {got:.6g} once the other paths "
                 f"({others}) are applied: these paths change the same quantity, so a result "
-                "would not describe its design; vary independent paths (e.g. both links' "
-                "lengths, or derived.reach_m with derived.link_ratio)"))])
+                "would not describe its design; vary independent paths (e.g. a link's length "
+                "and not also the entries of its link vector)"))])
 
 
 def parameter_paths(arm):

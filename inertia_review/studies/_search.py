@@ -95,7 +95,12 @@ def check_space(spec, space):
                                                         f"high; got {entry!r}"))])
             ends, options = (low, high), None
         else:
-            options = np.asarray(list(entry), float)
+            try:
+                options = np.asarray(list(entry), float)
+            except (TypeError, ValueError):
+                raise DesignError(spec["name"], [(path, (f"choices must be numbers (the path "
+                                                        f"holds a number); got {entry!r}"))]) \
+                    from None
             if options.size < 2 or not np.all(np.isfinite(options)):
                 raise DesignError(spec["name"], [(path, ("choices must be a list of at least "
                                                         "two finite numbers"))])
@@ -117,13 +122,16 @@ def check_independent(spec, paths, bounds, choices=None):
     """Refuse paths that overwrite each other when varied together (DesignError naming one).
 
     A link's length and the link ratio both set that link: the designs evaluated would not
-    have the values a result table reports. Checked at the middle of the space.
+    have the values a result table reports. Checked at three points of the space.
     """
     choices = choices if choices is not None else [None] * len(paths)
     if len(paths) > 1:
-        middle = {p: (0.5 * (b[0] + b[1]) if c is None else float(c[0]))
-                  for p, b, c in zip(paths, bounds, choices)}
-        apply_values(spec, middle)
+        # three probes (a third, the middle, two thirds of every range), so that paths which
+        # agree by chance at one point of the space are still caught
+        for f in (1.0 / 3.0, 0.5, 2.0 / 3.0):
+            probe = {p: (b[0] + f * (b[1] - b[0]) if c is None else float(c[0]))
+                     for p, b, c in zip(paths, bounds, choices)}
+            apply_values(spec, probe)
 
 
 class DesignSearch:
@@ -285,7 +293,12 @@ class DesignSearch:
         if not np.any(feasible):
             detail = "; ".join(
                 f"{name} {op} {bound:g} (best reached: {self._best_reached(name, op):.4g})"
-                for name, op, bound in constraints) or "every evaluated variant was invalid"
+                for name, op, bound in constraints)
+            errors = [e for e in self.results_["error"].values if e] \
+                if "error" in self.results_ else []
+            if errors and len(errors) == self.results_.sizes["evaluation"]:
+                detail = f"every evaluated variant was invalid, e.g. {errors[0]}"
+            detail = detail or "every evaluated variant was invalid"
             raise ValueError(f"infeasible problem: no evaluated design of '{self.arm.name}' "
                              f"meets the constraints: {detail}")
         first = np.where(feasible, self.results_["objective_0"].values, np.inf)

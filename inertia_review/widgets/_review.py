@@ -110,8 +110,11 @@ def snapshot(widget, *, title=None):
         print("\n".join(sheet.lines()[:-1]))
     if sheets:
         print(sheets[0].caution)
-    for result in getattr(widget, "results", None) or []:
+    results = getattr(widget, "results", None)
+    for result in results if isinstance(results, (list, tuple)) else []:
         if hasattr(result, "text"):
             print(result.text())
+    if hasattr(widget, "snapshot_text"):
+        print(widget.snapshot_text())
     print(caution)
     return None

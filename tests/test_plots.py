@@ -945,3 +945,26 @@ def test_small_multiples_every_panel_keeps_its_x_ticks_and_label(plt, irp, kestr
         # the y axis is shared along a row: labelled on the first panel of the row
         first = i % (ncols or len(maps)) == 0
         assert (ax.get_ylabel() == "height z [mm]") is first
+
+
+def test_a_long_title_is_wrapped_inside_the_figure():
+    """A long design name (e.g. a search proposal) must not push the title past the image
+    edge: every title line lies within the figure after drawing (common practice, no source)."""
+    import matplotlib
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    import inertia_review as ir
+    import inertia_review.plots as irp
+
+    spec = ir.demo_design("kestrel_a").to_dict()
+    spec["name"] = "kestrel_a proposal 263 from the second review round of the polishing cell"
+    arm = ir.Arm.from_dict(spec)
+    bars = irp.TorqueBarsDisplay.from_arm(arm, [0.1, 0.8, -1.9], accel_mps2=2.0)
+    fig = bars.figure_
+    fig.canvas.draw()
+    title = bars.ax_.title
+    box = title.get_window_extent(fig.canvas.get_renderer())
+    assert title.get_text().count("\n") >= 2                     # name wrapped, q line kept
+    assert box.x0 >= 0.0 and box.x1 <= fig.bbox.width + 0.5
+    plt.close("all")

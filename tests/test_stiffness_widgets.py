@@ -403,5 +403,9 @@ def test_snapshot_of_the_review_app_has_the_stiffness_image_sheet_and_caution(ir
         irw.snapshot(app)
     pngs = [o.data["image/png"] for o in captured.outputs if "image/png" in o.data]
     assert len(pngs) == 4                 # map, mass ellipse, stiffness ellipse, torque bars
-    assert "\n".join(app.datasheet.lines()[:-1]) in captured.stdout
-    assert STIFFNESS_CAUTION in captured.stdout
+    cards = [o.data["text/html"] for o in captured.outputs if "text/html" in o.data]
+    assert cards == [irw.datasheet_cards_html([app.datasheet])]     # the live card, once
+    assert f">{app.datasheet.payload_rated_kg:.3f}<" in cards[0]          # kg, 3 decimals
+    assert f">{1e3 * app.datasheet.sag_largest_m:.4f}<" in cards[0]       # mm, 4 decimals
+    import html as _html
+    assert " ".join(STIFFNESS_CAUTION.split()) in " ".join(_html.unescape(cards[0]).split())

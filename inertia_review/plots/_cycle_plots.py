@@ -87,7 +87,7 @@ def plot_cycle_torques(result, *, axes=None, caution=True):
             ax.set_ylabel(f"{result.joint_names[j]}\ntorque [N·m]")
             ax.grid(True, color=COLORS["grid"], linewidth=0.6)
         axes[-1].set_xlabel("time [s]")
-        axes[0].set_title(f"{result.design_name}: cycle '{result.cycle.name}'")
+        _style.set_title(axes[0], f"{result.design_name}: cycle '{result.cycle.name}'")
         handles = [Line2D([], [], color=COLORS["arm"], linewidth=1.4, label="torque"),
                    Line2D([], [], color=COLORS["peak"], linewidth=1.2, label="peak rating"),
                    Line2D([], [], color=COLORS["continuous"], linewidth=1.2, linestyle="--",
@@ -134,7 +134,7 @@ def plot_cycle_utilisation(result, *, ax=None, title=None, caution=True, legend=
                            label="rating (100 %)")
         ax.set_xticks(x, result.joint_names)
         ax.set_ylabel("utilisation [%]")
-        ax.set_title(title if title is not None else
+        _style.set_title(ax, title if title is not None else
                      f"{result.design_name}: cycle '{result.cycle.name}' against the ratings")
         ax.grid(True, axis="y", color=COLORS["grid"], linewidth=0.6)
         if legend:

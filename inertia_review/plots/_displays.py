@@ -260,7 +260,7 @@ class MassEllipseDisplay:
             ax.set_xlabel(axis_label(axes[0], "u"))
             ax.set_ylabel(axis_label(axes[1], "v"))
             if self.title:
-                ax.set_title(self.title)
+                _style.set_title(ax, self.title)
             key = Line2D([], [], linestyle="none", marker="o", markersize=10,
                          markerfacecolor=COLORS["light"], markeredgecolor=COLORS["light"],
                          alpha=0.6, label=f"apparent-mass ellipse: semi-axis = {self.scale:.3g} "
@@ -287,7 +287,7 @@ class MassEllipseDisplay:
         self.ellipse_.set_angle(self.angle_deg)
         self.text_.set_text(self._text())
         self._fit_view(self.ax_, widen_only=True)
-        self.ax_.set_title(self.title)
+        _style.set_title(self.ax_, self.title)
         self.figure_.canvas.draw_idle()
         return self
 
@@ -422,7 +422,7 @@ class TorqueBarsDisplay:
             ax.set_xlabel("joint")
             ax.set_ylabel("joint torque [N·m]")
             if self.title:
-                ax.set_title(self.title)
+                _style.set_title(ax, self.title)
             handles = [Patch(color=COLORS["static"], label="static |gravity torque|"),
                        Patch(color=COLORS["worst"], label="worst torque incl. acceleration"),
                        Line2D([], [], color=COLORS["peak"], linewidth=2.2, label="peak rating"),
@@ -457,6 +457,6 @@ class TorqueBarsDisplay:
         low, high = self.ax_.get_ylim()
         if self._ylim() > high:
             self.ax_.set_ylim(low, self._ylim())
-        self.ax_.set_title(self.title)
+        _style.set_title(self.ax_, self.title)
         self.figure_.canvas.draw_idle()
         return self

@@ -204,7 +204,7 @@ def _frame(ax, plane, title):
     ax.set_ylabel(plane.v_label)
     ax.set_aspect("equal", adjustable="box")
     if title:
-        ax.set_title(title)
+        _style.set_title(ax, title)
 
 
 def plot_metric_map(ds, metric="mass_ratio", *, ax=None, arm=None, probe=None, select=None,

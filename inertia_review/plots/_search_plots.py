@@ -95,7 +95,7 @@ def plot_tornado(table, *, ax=None, title=None, top=None):
                           for p in paths])
         ax.set_xlabel(label)
         design = table.attrs.get("design", "")
-        ax.set_title(f"{design}: one-at-a-time sensitivity" if title is None else title)
+        _style.set_title(ax, f"{design}: one-at-a-time sensitivity" if title is None else title)
         layout.legend([low_bars, high_bars, baseline])
         caution = None
         if score in TORQUE_SCORES or "caution" in table.attrs:
@@ -194,7 +194,7 @@ def plot_pareto(results, x, y, *, ax=None, title=None):
         ax.set_xlabel(xlabel)
         ax.set_ylabel(ylabel)
         design = results.attrs.get("design", "")
-        ax.set_title(f"{design}: evaluated designs" if title is None else title)
+        _style.set_title(ax, f"{design}: evaluated designs" if title is None else title)
         layout.legend([bad, good, best])
         layout.finish()
     return ParetoArtists(good, bad, best, front, np.asarray(results["evaluation"].values)[order],

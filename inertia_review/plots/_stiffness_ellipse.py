@@ -241,7 +241,7 @@ def plot_stiffness_ellipse(arm, q, *, ax=None, figure=None, plane_axes=None, mas
         labels = [plane.u_label, plane.v_label]
         ax.set_xlabel("along " + labels[0].replace(" [mm]", "") + " [mm, drawing scale]")
         ax.set_ylabel("along " + labels[1].replace(" [mm]", "") + " [mm, drawing scale]")
-        ax.set_title(title if title is not None else
+        _style.set_title(ax, title if title is not None else
                      f"{arm.name}: tool stiffness and apparent mass\nq = {_q_text(q)}")
         layout.legend(handles, ncols=1)
         caution_text = layout.caution(STIFFNESS_CAUTION) if caution else None

@@ -16,10 +16,11 @@ state, not style.
 import contextlib
 import textwrap
 
+import matplotlib
 import numpy as np
 
 __all__ = ["COLORS", "RC", "CMAP_SEQUENTIAL", "CMAP_DIVERGING", "HATCHES", "plot_style",
-           "Layout", "add_caution", "principal_colors"]
+           "Layout", "add_caution", "principal_colors", "set_title"]
 
 #: Our colours. Chosen to stay distinguishable under the common colour-vision
 #: deficiencies: dark ink, a blue and an orange from the Okabe & Ito palette
@@ -237,6 +238,18 @@ def principal_colors(k):
     """Colours for principal directions, lightest first."""
     return [COLORS["light"], COLORS["heavy"]] if k == 2 else [COLORS["light"], COLORS["middle"],
                                                               COLORS["heavy"]][:k]
+
+
+def set_title(ax, text):
+    """Set the Axes title, each line wrapped to the figure's width (long design names stay
+    inside the image instead of being cut at its edge). Returns the title Text."""
+    if not text:
+        return ax.set_title("")
+    size = matplotlib.rcParams["axes.titlesize"]
+    size = RC.get("axes.titlesize", 11.0) if isinstance(size, str) else float(size)
+    chars = max(24, int(ax.figure.get_figwidth() * 72.0 / (0.62 * size)))
+    lines = [textwrap.fill(line, width=chars) for line in str(text).split("\n")]
+    return ax.set_title("\n".join(lines))
 
 
 def add_caution(ax, text, *, below=None, fontsize=CAUTION_FONTSIZE):

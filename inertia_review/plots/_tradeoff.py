@@ -158,6 +158,6 @@ def plot_tradeoff(results, score="gci", *, ax=None, x=None, hue=None, maximize=T
             ax.add_artist(hue_legend)          # keep it when the best legend goes in the Axes
         layout.legend([best], loc="lower right" if kind == "heatmap" else "best")
         design = results.attrs.get("design", "")
-        ax.set_title(f"{design}: {label.rsplit(' [', 1)[0]}" if title is None else title)
+        _style.set_title(ax, f"{design}: {label.rsplit(' [', 1)[0]}" if title is None else title)
         layout.finish()
     return TradeoffArtists(kind, lines, mesh, cbar, best, best_values, ax)

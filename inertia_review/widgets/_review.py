@@ -1,6 +1,7 @@
 """The quick-review app and static snapshots for saved notebooks (private)."""
 
 import html
+import textwrap
 
 import ipywidgets as widgets
 import numpy as np
@@ -106,15 +107,17 @@ def snapshot(widget, *, title=None):
                   f"median {float(np.median(speed)):.4f} m/s")
     sheets = getattr(widget, "sheets", None) or ([widget.datasheet] if getattr(
         widget, "datasheet", None) is not None else [])
-    for sheet in sheets:
-        print("\n".join(sheet.lines()[:-1]))
     if sheets:
-        print(sheets[0].caution)
+        # the same cards the live widget shows (best value marked, caution included)
+        from IPython.display import HTML
+
+        from ._datasheet_card import datasheet_cards_html
+        display(HTML(datasheet_cards_html(list(sheets))))
     results = getattr(widget, "results", None)
     for result in results if isinstance(results, (list, tuple)) else []:
         if hasattr(result, "text"):
             print(result.text())
     if hasattr(widget, "snapshot_text"):
         print(widget.snapshot_text())
-    print(caution)
+    print(textwrap.fill(" ".join(str(caution).split()), width=100))   # no word cut at the edge
     return None

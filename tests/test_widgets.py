@@ -703,7 +703,12 @@ def test_snapshot_of_a_board(irw, kestrel_a, kestrel_b, task, ipython):
     pngs = _png_outputs(captured.outputs)
     assert len(pngs) == 2 and all(p.startswith(PNG_SIGNATURE) for p in pngs)
     assert set(pngs) == {_bytes(board.maps_image), _bytes(board.diff_image)}
+    tables = [o.data["text/html"] for o in captured.outputs if "text/html" in o.data]
+    assert board.table.value in tables                 # the compact table, a row per design
+    rows = tables[tables.index(board.table.value)].count("<tr>") - 1
+    assert rows == 2
     maps = [ir.metric_map(a, task) for a in (kestrel_a, kestrel_b)]
-    assert ir.baseline_table(maps) in captured.stdout
+    assert f"{ir.design_scores(maps[1])['gci']:.4g}" in board.table.value
+    assert ir.baseline_table(maps) not in captured.stdout   # the long text stays in nbval cells
     for phrase in CAUTION_PHRASES:
         assert phrase in captured.stdout

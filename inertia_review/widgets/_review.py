@@ -75,7 +75,7 @@ def snapshot(widget, *, title=None):
     A saved notebook then shows the state without a running kernel (on GitHub, in an
     HTML export): PNG images, and for map panels and review apps the scores as text.
     """
-    from IPython.display import Image, Markdown, display
+    from IPython.display import HTML, Image, Markdown, display
 
     if title:
         display(Markdown(f"**{title}**"))
@@ -96,7 +96,12 @@ def snapshot(widget, *, title=None):
               f"{speed.min():.4f} m/s, median {float(np.median(speed)):.4f} m/s")
         caution = ds.attrs.get("caution", caution)
     board_maps = getattr(widget, "maps", None)
-    if board_maps and "isotropy" in board_maps[0]:
+    board_table = getattr(getattr(widget, "table", None), "value", "")
+    if board_maps and "isotropy" in board_maps[0] and board_table:
+        # the board's own compact table (a row per design, best value marked), not the
+        # long checked text: that belongs to the notebook's NBVAL_CHECK_OUTPUT cells
+        display(HTML(board_table))
+    elif board_maps and "isotropy" in board_maps[0]:
         print(baseline_table(board_maps))
     elif board_maps:
         for m in board_maps:
@@ -109,8 +114,6 @@ def snapshot(widget, *, title=None):
         widget, "datasheet", None) is not None else [])
     if sheets:
         # the same cards the live widget shows (best value marked, caution included)
-        from IPython.display import HTML
-
         from ._datasheet_card import datasheet_cards_html
         display(HTML(datasheet_cards_html(list(sheets))))
     results = getattr(widget, "results", None)

@@ -170,8 +170,15 @@ def test_report_in_a_browser_with_the_network_blocked(tmp_path):
             page.goto(out.as_uri(), wait_until="load")
             sizes = page.eval_on_selector_all(
                 "img", "els => els.map(e => [e.complete, e.naturalWidth, e.naturalHeight])")
+            # printed text (the caution, the records) wraps between words: no word is cut at
+            # the right edge, and no output is wider than the page
+            wraps = page.eval_on_selector_all(
+                ".jp-OutputArea-output pre",
+                "els => els.map(e => [getComputedStyle(e).wordBreak, getComputedStyle(e).whiteSpace,"
+                " e.scrollWidth <= e.clientWidth + 1])")
         finally:
             browser.close()
+    assert wraps and all(w == ["normal", "pre-wrap", True] for w in wraps), wraps
     assert blocked == [] and failed == [] and errors == []
     assert len(sizes) >= n_png
     assert all(done and w > 0 and h > 0 for done, w, h in sizes), sizes

@@ -86,6 +86,13 @@ _OFFLINE_TEMPLATE = """{%- extends 'lab/index.html.j2' -%}
 {%- block jupyter_widgets -%}{%- endblock jupyter_widgets -%}
 {%- block html_head_js_mathjax -%}{%- endblock html_head_js_mathjax -%}
 {%- block html_head_js_mermaidjs -%}{%- endblock html_head_js_mermaidjs -%}
+{%- block extra_css -%}
+{{ super() }}
+<style>
+/* printed text (cautions, records) wraps between words, not inside them */
+.jp-OutputArea-output pre { white-space: pre-wrap !important; word-break: normal !important; overflow-wrap: break-word !important; }
+</style>
+{%- endblock extra_css -%}
 {%- block outputs -%}
 {%- if cell.metadata.get('jupyter', {}).get('outputs_hidden') -%}
 <details class="ir-collapsed-record"><summary>checked record (collapsed in the notebook; click to

@@ -33,27 +33,9 @@ VARY = {"joints[shoulder].link_length_m": (0.30, 0.40), "derived.link_ratio": (0
 NUMERIC = [c for c in ir.SCORE_COLUMNS if c != "headroom_worst_joint"]
 
 
-@pytest.fixture(scope="module")
-def plt():
-    import matplotlib
-
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as pyplot
-
-    return pyplot
-
-
 @pytest.fixture(autouse=True)
-def no_figure_leak(plt):
-    """The widgets draw on their own Agg figures: none may be registered with pyplot."""
-    import ipywidgets
-
-    assert plt.get_fignums() == []
-    yield
-    leaked = plt.get_fignums()
-    plt.close("all")
-    ipywidgets.Widget.close_all()
-    assert leaked == [], f"the widgets left pyplot figures open: {leaked}"
+def _leak_check(no_figure_leak):
+    """Every test here runs under the shared leak check (tests/conftest.py)."""
 
 
 @pytest.fixture(scope="module")

@@ -33,30 +33,9 @@ SPACING_M = 0.04
 CAUTION_WORDS = ("CAUTION", "linear-elastic", "not a validation", "ISO 10218")
 
 
-@pytest.fixture(scope="module")
-def plt():
-    import matplotlib
-
-    matplotlib.use("Agg")
-    from matplotlib import pyplot
-
-    return pyplot
-
-
-@pytest.fixture(scope="module")
-def irw(plt):
-    import inertia_review.widgets as widgets_layer
-
-    return widgets_layer
-
-
 @pytest.fixture(autouse=True)
-def close_all(plt):
-    import ipywidgets
-
-    yield
-    plt.close("all")
-    ipywidgets.Widget.close_all()
+def _cleanup(close_figures):
+    """The plot tests here draw through pyplot: close everything after each (tests/conftest.py)."""
 
 
 @pytest.fixture(scope="module")

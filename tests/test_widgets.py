@@ -40,36 +40,9 @@ SPACING_M = 0.04
 # --------------------------------------------------------------------------
 # fixtures
 # --------------------------------------------------------------------------
-@pytest.fixture(scope="module")
-def plt():
-    """pyplot on the Agg backend (headless)."""
-    import matplotlib
-
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as pyplot
-
-    return pyplot
-
-
-@pytest.fixture(scope="module")
-def irw(plt):
-    import inertia_review.widgets as widgets_layer
-
-    return widgets_layer
-
-
 @pytest.fixture(autouse=True)
-def no_figure_leak(plt):
-    """Widgets draw on their own Agg figures: none may be registered with pyplot (a leak
-    would grow with every slider move). Widgets made by a test are closed afterwards."""
-    import ipywidgets
-
-    assert plt.get_fignums() == [], f"figures leaked into this test: {plt.get_fignums()}"
-    yield
-    leaked = plt.get_fignums()
-    plt.close("all")
-    ipywidgets.Widget.close_all()
-    assert leaked == [], f"the widgets left pyplot figures open: {leaked}"
+def _leak_check(no_figure_leak):
+    """Every test here runs under the shared leak check (tests/conftest.py)."""
 
 
 @pytest.fixture(scope="module")

@@ -1,0 +1,45 @@
+"""Fixtures shared by the widget test modules (headless pyplot, the widgets layer, leak check)."""
+
+import pytest
+
+
+@pytest.fixture(scope="module")
+def plt():
+    """pyplot on the Agg backend (headless)."""
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as pyplot
+
+    return pyplot
+
+
+@pytest.fixture(scope="module")
+def irw(plt):
+    import inertia_review.widgets as widgets_layer
+
+    return widgets_layer
+
+
+@pytest.fixture
+def no_figure_leak(plt):
+    """Widgets draw on their own Agg figures: none may be registered with pyplot (a leak
+    would grow with every slider move). Widgets made by a test are closed afterwards."""
+    import ipywidgets
+
+    assert plt.get_fignums() == [], f"figures leaked into this test: {plt.get_fignums()}"
+    yield
+    leaked = plt.get_fignums()
+    plt.close("all")
+    ipywidgets.Widget.close_all()
+    assert leaked == [], f"the widgets left pyplot figures open: {leaked}"
+
+
+@pytest.fixture
+def close_figures(plt):
+    """Close every figure and widget after a test that may draw through pyplot itself."""
+    import ipywidgets
+
+    yield
+    plt.close("all")
+    ipywidgets.Widget.close_all()

@@ -247,3 +247,15 @@ def test_explorer_shows_the_chosen_name(search):
     finally:
         ipywidgets.Widget.close_all()
 
+
+
+def test_sliders_refuse_a_name_path(arm):
+    import ipywidgets
+
+    from inertia_review.widgets import DesignControls
+
+    try:
+        with pytest.raises(ValueError, match="holds a name"):
+            DesignControls(arm, parameters=[LENGTH, MATERIAL])
+    finally:
+        ipywidgets.Widget.close_all()

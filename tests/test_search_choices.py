@@ -189,6 +189,7 @@ def test_sweep_over_materials(arm):
     assert diff == pytest.approx(tube_mass(2700.0, L0) - tube_mass(1700.0, L0), rel=1e-9)
     values, best = sweep.best("moving_mass_kg", maximize=False)
     assert values == {MATERIAL: "cfrp"}
+    assert best == pytest.approx(float(res["moving_mass_kg"].values[1]), rel=1e-12)
 
 
 def test_sweep_refuses_an_unknown_name(arm):
@@ -239,7 +240,7 @@ def test_explorer_shows_the_chosen_name(search):
         explorer = ProposalExplorer(search)
         i = explorer.proposals[0]
         name = str(search.results_[MATERIAL].values[i])
-        label = dict((v, k) for k, v in explorer.choice.options)[i]
+        label = {v: k for k, v in explorer.choice.options}[i]
         assert f"material {name}" in label
         explorer.choice.value = i
         assert f"<td style='text-align:right'>{name}</td>" in explorer.table.value

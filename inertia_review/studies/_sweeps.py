@@ -217,9 +217,9 @@ def _names(spec, name, entry):
 
     values = [entry] if isinstance(entry, str) else list(entry)
     if not values or not all(isinstance(v, str) for v in values):
-        raise DesignError(spec["name"], [(name, "holds a name (one of "
-                                                f"{', '.join(path_choices(name))}): give a "
-                                                f"list of names; got {entry!r}")])
+        reason = (f"holds a name (one of {', '.join(path_choices(name))}): give a list of "
+                  f"names; got {entry!r}")
+        raise DesignError(spec["name"], [(name, reason)])
     for value in values:
         apply_values(spec, {name: value})           # an unknown name raises, naming the path
     return np.array(values, dtype=str)

@@ -14,6 +14,9 @@ Our own short syntax mirrors the field paths of error messages:
   fraction of the link length from its joint;
   ``derived.reach_m`` and ``derived.link_ratio``: the sum and the ratio (distal over
   proximal) of the lengths of the last two links.
+- names from a closed vocabulary (discrete choices): ``joints[j].link.tube.material``, one of
+  the material table's names (``MATERIALS``); ``get_value`` returns the name and setting an
+  unknown name raises, naming the path and the known names (``path_choices``).
 """
 
 import copy
@@ -23,7 +26,7 @@ import numpy as np
 
 from ._errors import DesignError
 
-__all__ = ["apply_values", "get_value", "parameter_paths", "resolve_joint"]
+__all__ = ["apply_values", "get_value", "parameter_paths", "path_choices", "resolve_joint"]
 
 _TOKEN = re.compile(r"([A-Za-z_][A-Za-z0-9_]*)(?:\[([^\]]+)\])?")
 
@@ -41,6 +44,45 @@ def resolve_joint(spec, key, path):
         hint = f"; did you mean '{close[0]}'?" if close else f"; joints are {', '.join(names)}"
         raise KeyError(f"'{path}': no joint named '{key}'{hint}")
     return names.index(key)
+
+
+def _vocabulary(field):
+    """The allowed names of a string field (by its last two path names), or None."""
+    if field == ("tube", "material"):
+        from ._materials import MATERIALS
+        return tuple(MATERIALS)
+    return None
+
+
+#: string fields that hold a name from a closed vocabulary, as (container, key); a new one
+#: plugs in here and in ``_vocabulary``
+STRING_FIELDS = (("tube", "material"),)
+
+
+def _field(tokens):
+    return (tokens[-2][0], tokens[-1][0]) if len(tokens) >= 2 else (None, tokens[-1][0])
+
+
+def path_choices(path):
+    """The allowed names of a parameter path that holds a name (e.g. a tube's material), or
+    None for a numeric path."""
+    tokens = _tokens(path)
+    if tokens[-1][1] is not None:
+        return None
+    return _vocabulary(_field(tokens))
+
+
+def _check_name(path, value, names):
+    """``value`` if it is one of ``names``; else KeyError naming the path and the names."""
+    if not isinstance(value, str):
+        raise ValueError(f"'{path}': holds a name (one of {', '.join(names)}), not a number; "
+                         f"got {value!r}")
+    if value not in names:
+        import difflib
+        close = difflib.get_close_matches(value, names, n=1, cutoff=0.5)
+        hint = f"did you mean '{close[0]}'? " if close else ""
+        raise KeyError(f"'{path}': unknown name '{value}'; {hint}known: {', '.join(names)}")
+    return value
 
 
 def _tokens(path):
@@ -152,6 +194,10 @@ def _locate(spec, tokens, path):
     *head, (name, index) = tokens
     parent = _container(spec, head, path) if head else spec
     if not isinstance(parent, dict) or name not in parent:
+        if _field(tokens) == ("tube", "material") and isinstance(parent, dict) \
+                and "density_kgm3" in parent:
+            raise KeyError(f"'{path}': this tube gives density_kgm3, not a material; vary "
+                           "'density_kgm3' or name a material in the design file")
         raise KeyError(f"'{path}': '{name}' does not exist in design '{spec['name']}'")
     value = parent[name]
     if index is not None:
@@ -160,14 +206,27 @@ def _locate(spec, tokens, path):
         if not all(isinstance(v, float) for v in value):
             raise KeyError(f"'{path}': '{name}' is not a vector of numbers")
         return parent, name, int(index)
+    if isinstance(value, str) and _vocabulary(_field(tokens)) is not None:
+        return parent, name, None
     if not isinstance(value, float):
         raise KeyError(f"'{path}': '{name}' is not a number (sweep a number or a vector entry)")
     return parent, name, None
 
 
+def _number(path, value):
+    if isinstance(value, str):
+        raise ValueError(f"'{path}': holds a number; got the name {value!r}")
+    return float(value)
+
+
 def _set(spec, path, value):
     tokens = _tokens(path)
-    value = float(value)
+    names = path_choices(path)
+    if names is not None:
+        parent, key, _ = _locate(spec, tokens, path)
+        parent[key] = _check_name(path, value, names)
+        return
+    value = _number(path, value)
     if tokens[0][0] == "derived":
         a, b = _last_two(spec, path)
         name = tokens[1][0] if len(tokens) == 2 else ""
@@ -245,15 +304,20 @@ def _derived_lengths(spec, values):
         if tokens[0][0] == "joints" and len(tokens) == 2 and tokens[1][0] == "link_length_m":
             j = resolve_joint(spec, tokens[0][1] or "", path)
             if j in (a, b):
-                fixed[j] = (path, float(value))
+                fixed[j] = (path, _number(path, value))
     if len(derived) + len(fixed) > 2:
         raise DesignError(spec["name"], [(p, "over-determined: the lengths of the last two "
                                              "links cannot meet all of "
                                              f"{', '.join(sorted(derived) + [f[0] for f in fixed.values()])}")
                                          for p in derived])
     la, lb = _link_length(spec, a), _link_length(spec, b)
-    reach = float(values.get("derived.reach_m", la + lb))
-    ratio = float(values.get("derived.link_ratio", lb / la if la > 0 else np.nan))
+    try:
+        reach = _number("derived.reach_m", values.get("derived.reach_m", la + lb))
+        ratio = _number("derived.link_ratio",
+                        values.get("derived.link_ratio", lb / la if la > 0 else np.nan))
+    except ValueError as exc:
+        path, reason = str(exc.args[0]).split(": ", 1)
+        raise DesignError(spec["name"], [(path.strip("'"), reason)]) from None
     if a in fixed:
         la = fixed[a][1]
         lb = ratio * la if "derived.link_ratio" in values else reach - la
@@ -307,6 +371,8 @@ def _check_read_back(name, spec, values):
     """
     for path, value in values.items():
         got = get_value(spec, path)
+        if isinstance(got, str):
+            continue                     # a name: set as given (no derived path sets one)
         if not np.isclose(got, float(value), rtol=1e-9, atol=1e-12):
             others = ", ".join(f"'{p}'" for p in values if p != path)
             raise DesignError(name, [(path, (
@@ -317,7 +383,12 @@ def _check_read_back(name, spec, values):
 
 
 def parameter_paths(arm):
-    """The numeric parameter paths of an arm, with their current values, as a dict."""
+    """The parameter paths of an arm, with their current values, as a dict.
+
+    Numeric paths map to floats; the paths that hold a name from a closed vocabulary
+    (a tube's ``material``, see :func:`path_choices`) map to that name (a str): a caller
+    that needs numbers keeps the float values (``isinstance(v, float)``).
+    """
     spec = arm.to_dict()
     out = {}
 
@@ -332,6 +403,8 @@ def parameter_paths(arm):
             for i, v in enumerate(node):
                 walk(v, f"{prefix}[{i}]")
         elif isinstance(node, float):
+            out[prefix] = node
+        elif isinstance(node, str) and path_choices(prefix) is not None:
             out[prefix] = node
 
     for j, joint in enumerate(spec["joints"]):

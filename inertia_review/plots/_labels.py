@@ -140,6 +140,8 @@ def parameter_label(path):
         name = f"{name}[{index}]"
     if not (name == "mass" and words and words[-1].startswith("point mass")):
         words.append(name)
+    if last == "material" and index is None:         # a name (a discrete choice): no unit
+        return " ".join(words), factor
     return " ".join(words) + f" [{unit}]", factor
 
 

@@ -133,19 +133,33 @@ class ParetoArtists:
 
 
 def _quantity(results, name):
-    """(values in screen units, label) of a score variable or a parameter path."""
+    """(values in screen units, label, names or None) of a score variable or a parameter
+    path; ``names`` label the positions of a path that holds a name."""
     if name in results.data_vars:
         da = results[name]
         if da.dtype.kind != "f":
             raise ValueError(f"'{name}' is not a numeric score")
         label = score_label(da, name)
-        return np.asarray(da.values, float), label
+        return np.asarray(da.values, float), label, None
     if name in results.coords and name != "evaluation":
         label, factor = parameter_label(name)
-        return np.asarray(results[name].values, float) * factor, label
+        if results[name].dtype.kind in "UO":          # names (e.g. a tube's material)
+            positions, names = _name_positions(results[name])
+            return positions, label, names
+        return np.asarray(results[name].values, float) * factor, label, None
     numeric = [k for k, v in results.data_vars.items() if v.dtype.kind == "f"]
     raise KeyError(f"'{name}' is neither a score ({', '.join(numeric)}) nor a searched "
                    f"parameter ({', '.join(results.attrs.get('parameters', []))})")
+
+
+def _name_positions(da):
+    """(positions (S,), names): positions 0, 1, ... of the names of a choice parameter, in
+    the order of its ``choices`` attribute (else sorted)."""
+    values = np.asarray(da.values).astype(str)
+    names = [n for n in str(da.attrs.get("choices", "")).split(", ") if n] \
+        or sorted(set(values))
+    names += sorted(set(values) - set(names))
+    return np.array([names.index(v) for v in values], float), names
 
 
 def plot_pareto(results, x, y, *, ax=None, title=None):
@@ -158,7 +172,8 @@ def plot_pareto(results, x, y, *, ax=None, title=None):
         ``pareto``), or the run search itself.
     x, y : str
         Score variables (e.g. ``"moving_mass_kg"``, ``"gci"``) or searched parameter paths
-        (shown in mm / deg / kg).
+        (shown in mm / deg / kg; a path holding a name, e.g. a tube's material, is drawn at
+        one position per name, ticks labelled with the names).
     ax : matplotlib Axes, optional
 
     Returns
@@ -169,8 +184,8 @@ def plot_pareto(results, x, y, *, ax=None, title=None):
     for needed in ("feasible", "pareto"):
         if needed not in getattr(results, "data_vars", {}):
             raise ValueError(f"plot_pareto needs DesignSearch results (no '{needed}' variable)")
-    xs, xlabel = _quantity(results, x)
-    ys, ylabel = _quantity(results, y)
+    xs, xlabel, xnames = _quantity(results, x)
+    ys, ylabel, ynames = _quantity(results, y)
     finite = np.isfinite(xs) & np.isfinite(ys)
     feasible = np.asarray(results["feasible"].values, bool) & finite
     pareto = np.asarray(results["pareto"].values, bool) & finite
@@ -193,6 +208,9 @@ def plot_pareto(results, x, y, *, ax=None, title=None):
                           label=f"Pareto set ({order.size})")
         ax.set_xlabel(xlabel)
         ax.set_ylabel(ylabel)
+        for axis, names in ((ax.xaxis, xnames), (ax.yaxis, ynames)):
+            if names is not None:
+                axis.set_ticks(range(len(names)), names)
         design = results.attrs.get("design", "")
         _style.set_title(ax, f"{design}: evaluated designs" if title is None else title)
         layout.legend([bad, good, best])

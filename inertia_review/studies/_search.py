@@ -16,7 +16,7 @@ import re
 import numpy as np
 
 from ..model._errors import DesignError
-from ..model._paths import apply_values, get_value
+from ..model._paths import apply_values, get_value, path_choices
 from ._scores import SCORE_COLUMNS
 from ._variants import score_variants, variant_params
 
@@ -74,9 +74,10 @@ def check_space(spec, space):
     """Validate a search space against a design spec (dict from ``Arm.to_dict``).
 
     Returns (paths, bounds (d, 2), choices): ``choices[i]`` is None for a continuous
-    path, else the allowed values (and ``bounds[i]`` the index range). Raises
-    DesignError naming the path for an unknown path, bad bounds or an end of the
-    range that design validation does not accept.
+    path, else the allowed values (numbers, or names (a str array) for a path that holds a
+    name such as a tube's material) and ``bounds[i]`` the index range. Raises
+    DesignError naming the path for an unknown path, bad bounds, an unknown name or an end
+    of the range that design validation does not accept.
     """
     if not isinstance(space, dict) or not space:
         raise ValueError("`space` must be a non-empty dict of {parameter path: (low, high) "
@@ -88,6 +89,28 @@ def check_space(spec, space):
         except (KeyError, ValueError) as exc:
             raise DesignError(spec["name"], [(path, str(exc.args[0]).split(": ", 1)[-1])]) \
                 from None
+        names = path_choices(path)
+        if names is not None:                   # a name from a closed vocabulary
+            options = [entry] if isinstance(entry, str) else entry
+            if isinstance(entry, tuple) or not all(isinstance(v, str) for v in options):
+                raise DesignError(spec["name"], [(path, (
+                    f"holds a name (one of {', '.join(names)}): give a list of names to "
+                    f"choose from, not bounds; got {entry!r}"))])
+            options = np.array(list(dict.fromkeys(options)), dtype=str)
+            if options.size < 2:
+                raise DesignError(spec["name"], [(path, "choices must be a list of at least "
+                                                        "two different names")])
+            for name in options:
+                try:
+                    variant_params(spec, {path: str(name)})
+                except (DesignError, ValueError) as exc:
+                    reason = exc.problems[0][1] if isinstance(exc, DesignError) and \
+                        getattr(exc, "problems", None) else str(exc)
+                    raise DesignError(spec["name"], [(path, reason)]) from None
+            paths.append(path)
+            bounds.append((0.0, options.size - 1.0))
+            choices.append(options)
+            continue
         if isinstance(entry, tuple) and len(entry) == 2:
             low, high = float(entry[0]), float(entry[1])
             if not (np.isfinite(low) and np.isfinite(high) and low < high):
@@ -129,9 +152,15 @@ def check_independent(spec, paths, bounds, choices=None):
         # three probes (a third, the middle, two thirds of every range), so that paths which
         # agree by chance at one point of the space are still caught
         for f in (1.0 / 3.0, 0.5, 2.0 / 3.0):
-            probe = {p: (b[0] + f * (b[1] - b[0]) if c is None else float(c[0]))
+            probe = {p: (b[0] + f * (b[1] - b[0]) if c is None else _choice(c, 0))
                      for p, b, c in zip(paths, bounds, choices)}
             apply_values(spec, probe)
+
+
+def _choice(options, index):
+    """Entry ``index`` of a choice list: a float, or a str for names."""
+    value = options[int(index)]
+    return str(value) if options.dtype.kind == "U" else float(value)
 
 
 class DesignSearch:
@@ -143,7 +172,10 @@ class DesignSearch:
         The baseline design.
     space : dict of {path: (low, high) or list of values}
         Parameter paths (see :func:`inertia_review.parameter_paths`) with continuous bounds,
-        or a list of allowed numbers (a discrete choice).
+        or a list of allowed numbers (a discrete choice), or for a path that holds a name
+        (``joints[j].link.tube.material``) a list of names, e.g. ``["aluminium_6061",
+        "cfrp"]``. Choices are searched by their index (integers for the optimisers); the
+        table holds the chosen number or name.
     objectives : sequence of str or (name, sense)
         ``'max:gci'``, ``'min:moving_mass_kg'``...: score columns or parameter paths.
     constraints : sequence of str or (name, op, value), optional
@@ -200,6 +232,9 @@ class DesignSearch:
                 except (KeyError, ValueError):
                     raise ValueError(f"'{name}' is neither a score ({', '.join(SCORE_COLUMNS)}) "
                                      "nor a parameter path of the design") from None
+                if path_choices(name) is not None:
+                    raise ValueError(f"'{name}' holds a name, not a number: it cannot be an "
+                                     "objective or a constraint (search over it in `space`)")
             if name == "headroom_worst_joint":
                 raise ValueError("'headroom_worst_joint' is a joint name, not a number")
         return spec, paths, np.array(bounds, float), choices, objectives, constraints
@@ -208,7 +243,7 @@ class DesignSearch:
     def _values(self, x):
         out = {}
         for path, xi, options in zip(self._paths, x, self._choices):
-            out[path] = float(options[int(np.clip(np.rint(xi), 0, options.size - 1))]) \
+            out[path] = _choice(options, np.clip(np.rint(xi), 0, options.size - 1)) \
                 if options is not None else float(xi)
         return out
 
@@ -303,7 +338,7 @@ class DesignSearch:
                              f"meets the constraints: {detail}")
         first = np.where(feasible, self.results_["objective_0"].values, np.inf)
         i = int(np.argmin(first))
-        self.best_ = {p: float(self.results_[p].values[i]) for p in paths}
+        self.best_ = self._row_values(i)
         return self
 
     def _best_reached(self, name, op):
@@ -359,8 +394,13 @@ class DesignSearch:
         h = self._history
         count = len(h)
         coords = {"evaluation": np.arange(count)}
-        for path in self._paths:
-            coords[path] = ("evaluation", np.array([e["values"][path] for e in h]))
+        for path, options in zip(self._paths, self._choices):
+            kind = str if options is not None and options.dtype.kind == "U" else float
+            column = np.array([e["values"][path] for e in h], dtype=kind)
+            if kind is str:           # names: fixed-width str, written as netCDF-4 strings
+                coords[path] = ("evaluation", column, {"choices": ", ".join(options)})
+            else:
+                coords[path] = ("evaluation", column)
         data = {}
         for column in SCORE_COLUMNS:
             if column == "headroom_worst_joint":
@@ -399,9 +439,16 @@ class DesignSearch:
     # ------------------------------------------------------------------ designs
     def design(self, evaluation=None):
         """The Arm of one evaluated design (default: the best feasible one), validated."""
-        values = self.best_ if evaluation is None else {
-            p: float(self.results_[p].values[int(evaluation)]) for p in self._paths}
+        values = self.best_ if evaluation is None else self._row_values(int(evaluation))
         return self.arm.with_values(values)
+
+    def _row_values(self, i):
+        """{path: value} of evaluation ``i`` (a float, or a str for a path holding a name)."""
+        out = {}
+        for p in self._paths:
+            value = self.results_[p].values[i]
+            out[p] = str(value) if self.results_[p].dtype.kind in "UO" else float(value)
+        return out
 
     def pareto_designs(self):
         """Arms of the Pareto set (feasible, non-dominated), in evaluation order."""

@@ -11,7 +11,7 @@ validate the paths and ranges as ``DesignSearch`` does (``check_space``).
 import numpy as np
 import pandas as pd
 
-from ..model._paths import get_value
+from ..model._paths import get_value, path_choices
 from ._cautions import TORQUE_CAUTION
 from ._scores import SCORE_COLUMNS
 from ._search import check_independent, check_space
@@ -35,9 +35,18 @@ def _check_vary(arm, vary):
         raise ValueError("`vary` must be a non-empty dict of {parameter path: (low, high)}")
     space = {}
     for path, entry in vary.items():
+        if path_choices(path) is not None:
+            raise ValueError(f"`vary['{path}']`: this path holds a name (one of "
+                             f"{', '.join(path_choices(path))}), not a number; a sensitivity "
+                             "needs a numeric (low, high) range: compare the names with "
+                             "ir.Sweep or ir.DesignSearch instead")
         if not (isinstance(entry, (tuple, list)) and len(entry) == 2):
             raise ValueError(f"`vary['{path}']` must be a (low, high) pair; got {entry!r}")
-        space[path] = (float(entry[0]), float(entry[1]))
+        try:
+            space[path] = (float(entry[0]), float(entry[1]))
+        except (TypeError, ValueError):
+            raise ValueError(f"`vary['{path}']` must be a (low, high) pair of numbers; got "
+                             f"{entry!r}") from None
     spec = arm.to_dict()
     paths, bounds, _ = check_space(spec, space)
     return spec, paths, np.asarray(bounds, float)

@@ -13,7 +13,7 @@ import numpy as np
 
 from ..model._arm import Arm
 from ..model._errors import DesignError
-from ..model._paths import get_value
+from ..model._paths import get_value, path_choices
 from ._scores import SCORE_COLUMNS, design_scores, scores_from_arrays
 
 __all__ = ["Sweep"]
@@ -91,11 +91,19 @@ class Sweep:
             axes = []
             for name in names:
                 _known(spec, name)
-                values = np.asarray(self.vary[name], dtype=float).ravel()
-                if values.size == 0 or not np.all(np.isfinite(values)):
-                    raise ValueError(f"`vary['{name}']` must be a non-empty list of finite numbers")
+                if path_choices(name) is not None:        # a name (e.g. a tube's material)
+                    values = _names(spec, name, self.vary[name])
+                else:
+                    try:
+                        values = np.asarray(self.vary[name], dtype=float).ravel()
+                    except (TypeError, ValueError):
+                        values = np.array([np.nan])
+                    if values.size == 0 or not np.all(np.isfinite(values)):
+                        raise ValueError(f"`vary['{name}']` must be a non-empty list of finite "
+                                         "numbers")
                 axes.append(values)
-            combos = [dict(zip(names, map(float, c))) for c in itertools.product(*axes)]
+            combos = [{n: (str(v) if a.dtype.kind == "U" else float(v))
+                       for n, v, a in zip(names, c, axes)} for c in itertools.product(*axes)]
             return names, axes, combos
         combos = [dict(v) for v in self.variants]
         if not combos:
@@ -175,8 +183,9 @@ class Sweep:
             dims = ("variant",)
             coords = {"variant": np.arange(len(combos))}
             for name in names:
+                kind = str if path_choices(name) is not None else float
                 coords[name] = ("variant", np.array([c.get(name, get_value(spec, name))
-                                                     for c in combos], float))
+                                                     for c in combos], kind))
             variables = {k: (dims, v) for k, v in data.items()}
         ds = xr.Dataset(variables, coords=coords)
         for column, (units, definition) in SCORE_COLUMNS.items():
@@ -197,7 +206,23 @@ class Sweep:
         flat = np.where(np.isfinite(values), values if maximize else -values, -np.inf).ravel()
         index = int(np.argmax(flat))
         point = ds[score].isel(dict(zip(ds[score].dims, np.unravel_index(index, values.shape))))
-        return {name: float(point[name]) for name in ds.attrs["parameters"]}, float(point)
+        return ({name: (str(point[name].values) if point[name].dtype.kind == "U"
+                        else float(point[name])) for name in ds.attrs["parameters"]},
+                float(point))
+
+
+def _names(spec, name, entry):
+    """The names (a str array) given for a path that holds a name; DesignError otherwise."""
+    from ..model._paths import apply_values
+
+    values = [entry] if isinstance(entry, str) else list(entry)
+    if not values or not all(isinstance(v, str) for v in values):
+        reason = (f"holds a name (one of {', '.join(path_choices(name))}): give a list of "
+                  f"names; got {entry!r}")
+        raise DesignError(spec["name"], [(name, reason)])
+    for value in values:
+        apply_values(spec, {name: value})           # an unknown name raises, naming the path
+    return np.array(values, dtype=str)
 
 
 def _known(spec, name):

@@ -5,7 +5,7 @@ import traitlets
 
 from ..model._arm import Arm
 from ..model._errors import DesignError
-from ..model._paths import get_value, parameter_paths
+from ..model._paths import get_value, parameter_paths, path_choices
 
 __all__ = ["DesignControls", "default_parameters", "screen_unit"]
 
@@ -92,6 +92,11 @@ class DesignControls(widgets.VBox):
         self._base = base
         self._paths = list(parameters) if parameters is not None else default_parameters(base)
         spec = base.to_dict()
+        for path in self._paths:
+            if path_choices(path) is not None:
+                raise ValueError(f"parameter '{path}' holds a name (one of "
+                                 f"{', '.join(path_choices(path))}), not a number: a slider "
+                                 "needs a numeric path (compare names with ir.Sweep)")
         self._baseline = {p: float(get_value(spec, p)) for p in self._paths}
         self._sliders = {}
         for path in self._paths:

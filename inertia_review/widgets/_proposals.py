@@ -121,6 +121,9 @@ class ProposalExplorer(widgets.VBox):
         ds = self.results
         parts = []
         for name in list(ds.attrs.get("parameters", [])) + _objective_names(ds):
+            if ds[name].dtype.kind in "UO":           # a name (e.g. a tube's material)
+                parts.append(f"{parameter_label(name)[0]} {ds[name].values[i]}")
+                continue
             value = float(ds[name].values[i])
             if name in ds.coords:
                 label, factor = parameter_label(name)
@@ -217,7 +220,9 @@ class ProposalExplorer(widgets.VBox):
         rows = []
         for path in ds.attrs.get("parameters", []):
             label, factor = parameter_label(path)
-            rows.append((label, f"{float(ds[path].values[i]) * factor:.6g}"))
+            value = ds[path].values[i]
+            rows.append((label, str(value) if ds[path].dtype.kind in "UO"
+                         else f"{float(value) * factor:.6g}"))
         for name in self._columns():
             rows.append((score_label(ds[name], name), f"{float(ds[name].values[i]):.4g}"))
         return rows

@@ -12,9 +12,11 @@ kinematics (``solve_positions``), warm-started across neighbouring variants:
 2. all variants of the group continue from the anchor's solution at once, by damped
    least-squares steps on the whole V*P batch;
 3. every point the continuation does not settle (not converged, outside the requested
-   posture, or no anchor solution) is solved again by ``solve_positions`` exactly as the
-   per-variant path does (same seed table), so the scores equal the per-variant path's
-   (``tests/test_variants.py``) up to the solver tolerance.
+   posture, or no anchor solution) is solved again exactly as ``solve_positions`` of its
+   variant does (same seed table), for all variants at once: the unsettled points of all
+   variants are stacked with one arm per configuration and run through the numeric
+   solver's steps once (``_ik_stacked.solve_positions_stacked``), so the scores equal the
+   per-variant path's (``tests/test_variants.py``) up to the solver tolerance.
 
 Variants with identical kinematics (payload, masses, ratings, materials) are solved once.
 The scores then come from one batched pass of the core kernels per ~4,000 configurations
@@ -46,6 +48,7 @@ from ._scores import scores_from_arrays
 from ._stack import lift_to as _lift, stack_params, take_params as _take
 
 __all__ = ["stack_params", "score_variants", "variant_params"]
+
 
 def variant_params(spec, values, payload_kg=None):
     """(normalised spec, ArmParams) of one variant, validated like a design file.

@@ -74,3 +74,33 @@ def test_payload_closed_form_matches_the_eigen_route():
         _payload._linear_force_map = original
     assert np.all(np.isfinite(slow)) and np.all(slow > 0.0)
     np.testing.assert_allclose(fast, slow, rtol=1e-10)
+
+
+@pytest.mark.parametrize("posture", ["elbow_up", "elbow_down"])
+def test_stacked_solver_equals_solve_positions_of_each_arm(posture):
+    # The exact re-solve of score_variants runs the numeric solver once over the points of
+    # many arms (one arm per configuration); the reference is solve_positions of each arm
+    # on its own points. Random points in and out of reach, so that solved, beyond-limits
+    # and out-of-reach points (the limits retry) all occur.
+    from inertia_review.model._arm import Arm
+    from inertia_review.studies._ik_stacked import solve_positions_stacked
+    from inertia_review.studies._variants import variant_params
+
+    arm = ir.load_design("designs/kestrel_a.toml")
+    rng = np.random.default_rng(3)
+    params_list, points_list, q_ref, s_ref = [], [], [], []
+    for ratio, tilt in [(0.6, 0.0), (0.9, 10.0), (1.4, 30.0)]:
+        spec, params = variant_params(arm.to_dict(), {"derived.link_ratio": ratio,
+                                                      "mount.rpy_deg[1]": tilt})
+        points = np.array([0.38, 0.05, 0.20]) + rng.uniform(-0.6, 0.6, (60, 3))
+        ref = ir.solve_positions(Arm(spec, params), points, posture=posture, table_size=2048)
+        params_list.append(params)
+        points_list.append(points)
+        q_ref.append(ref.q)
+        s_ref.append(ref.status)
+    q, status = solve_positions_stacked(params_list, points_list, posture=posture,
+                                        table_size=2048)
+    s_ref = np.concatenate(s_ref)
+    assert len(set(s_ref.tolist())) >= 3
+    np.testing.assert_array_equal(status, s_ref)
+    np.testing.assert_allclose(q, np.concatenate(q_ref), rtol=0, atol=1e-12)

@@ -9,8 +9,9 @@ import numpy as np
 
 from ..core import _kinematics
 from ..core._smallmat import matmul, transpose
+from ._stack import take_params
 
-__all__ = ["SeedPool", "dls", "fit_limits", "reach_bound", "seed_table", "solve_small"]
+__all__ = ["SeedPool", "dls", "dls_stacked", "fit_limits", "reach_bound", "seed_table", "solve_small"]
 
 
 def fit_limits(q, limits):
@@ -172,3 +173,47 @@ class SeedPool:
             table_row = np.maximum(rows[rest] - self.offset, 0)
             out[:, rest] = self._table_q[:, self._nearest[table_row, idx[rest]]]
         return out
+
+
+def dls_stacked(params, like, q, targets, *, tolerance, max_iterations, damping, low, high,
+                clip=True):
+    """``dls`` for one arm per configuration (non-redundant arms, no tool angle).
+
+    ``params`` holds one arm per configuration (arrays with a trailing batch axis, see
+    ``studies._stack``; ``like`` one arm's ``ArmParams``, to tell them apart); ``damping``
+    (N,) [m], ``low``/``high`` (n, N) [rad] per configuration. Every configuration takes
+    the same steps as ``dls`` of its own arm would (the steps of one configuration do not
+    depend on the others); the batch shrinks to the unsettled ones as they settle.
+    Returns q (n, N) and the residual (N,) [m].
+    """
+    a = params.task_axes
+    q = q.copy()
+    residual = np.full(q.shape[1], np.inf)
+    active = np.arange(q.shape[1])
+    sub, sub_targets, sub_low, sub_high, sub_damp = params, targets, low, high, damping
+    for iteration in range(max_iterations):
+        qa = q[:, active]
+        frames = _kinematics.forward(sub, qa)
+        err = a @ (sub_targets - frames.tool)
+        norm = np.sqrt(np.sum(err * err, axis=0))
+        # the stopping rule of dls: converged, or the error no longer shrinks
+        stalled = norm > 0.9 * residual[active]
+        residual[active] = np.minimum(norm, residual[active])
+        done = (norm <= tolerance) | (stalled & (norm > 1e3 * tolerance) & (iteration > 5))
+        if np.all(done):
+            break
+        jac = np.einsum("ki,inN->knN", a, _kinematics.jacobian(frames)[:3])
+        keep = ~done
+        if not np.all(keep):                    # drop the settled configurations
+            active, qa, err, jac = active[keep], qa[:, keep], err[:, keep], jac[:, :, keep]
+            sub = take_params(sub, keep, like)
+            sub_targets, sub_low, sub_high = sub_targets[:, keep], sub_low[:, keep], sub_high[:, keep]
+            sub_damp, norm = sub_damp[keep], norm[keep]
+        jjt = matmul(jac, transpose(jac))
+        lam = np.minimum(sub_damp, 10.0 * norm)
+        jjt = jjt + (lam * lam) * np.eye(jjt.shape[0])[:, :, None]
+        step = np.sum(jac * solve_small(jjt, err)[:, None, :], axis=0)
+        step_norm = np.sqrt(np.sum(step * step, axis=0))
+        step = step * np.minimum(1.0, 0.5 / np.maximum(step_norm, 1e-300))[None]  # <= 0.5 rad
+        q[:, active] = np.clip(qa + step, sub_low, sub_high) if clip else qa + step
+    return q, residual

@@ -12,9 +12,11 @@ kinematics (``solve_positions``), warm-started across neighbouring variants:
 2. all variants of the group continue from the anchor's solution at once, by damped
    least-squares steps on the whole V*P batch;
 3. every point the continuation does not settle (not converged, outside the requested
-   posture, or no anchor solution) is solved again by ``solve_positions`` exactly as the
-   per-variant path does (same seed table), so the scores equal the per-variant path's
-   (``tests/test_variants.py``) up to the solver tolerance.
+   posture, or no anchor solution) is solved again exactly as ``solve_positions`` of its
+   variant does (same seed table), for all variants at once: the unsettled points of all
+   variants are stacked with one arm per configuration and run through the numeric
+   solver's steps once (``_ik_stacked.solve_positions_stacked``), so the scores equal the
+   per-variant path's (``tests/test_variants.py``) up to the solver tolerance.
 
 Variants with identical kinematics (payload, masses, ratings, materials) are solved once.
 The scores then come from one batched pass of the core kernels per ~4,000 configurations
@@ -26,8 +28,6 @@ are solved by ``solve_positions`` per variant (closed form for planar two-joint 
 the neighbour's solution as ``initial_q`` otherwise); the metrics are still batched.
 """
 
-import dataclasses
-
 import numpy as np
 
 from ..core import _kinematics, _metrics, _stiffness
@@ -35,65 +35,19 @@ from ..core._smallmat import matmul, transpose
 from ..model._arm import Arm
 from ..model._design import normalise_design
 from ..model._errors import DesignError
-from ..model._params import ArmParams, build_params
+from ..model._params import build_params
 from ..model._paths import apply_values
 from ..model._regions import Task
 from ._ik import NOT_CONVERGED, OUT_OF_REACH, solve_positions
+from ._ik_stacked import solve_positions_stacked
 from ._ik_status import SOLVED
 from ._ik_numeric import reach_bound as _reach_bound, solve_small as _solve_small
 from ._maps import _stiffness_values
 from ._posture import PostureRule, accepts, posture_rule, posture_value
 from ._scores import scores_from_arrays
+from ._stack import lift_to as _lift, stack_params, take_params as _take
 
 __all__ = ["stack_params", "score_variants", "variant_params"]
-
-_SHARED = ("n", "task_axes", "gravity")
-
-
-def stack_params(params_list, repeat=1):
-    """One ``ArmParams`` for len(params_list) * repeat configurations.
-
-    Arrays that differ between the variants get a trailing batch axis (variant v's fill batch
-    entries v * repeat ... (v + 1) * repeat - 1); arrays equal in every variant are kept as
-    one arm's, which the core kernels broadcast (``core._smallmat.lift``/``pmatmul``), so
-    shared geometry costs no more than for one arm. ``n``, the task axes and gravity must be
-    shared (they set array shapes and the task frame; the first variant's are kept).
-    """
-    first = params_list[0]
-    fields = {}
-    for field in dataclasses.fields(ArmParams):
-        name = field.name
-        value = getattr(first, name)
-        if name in _SHARED or len(params_list) == 1:
-            fields[name] = value
-            continue
-        stacked = np.stack([getattr(p, name) for p in params_list], axis=-1)
-        ref = stacked[..., :1]
-        if np.all((stacked == ref) | (np.isnan(stacked) & np.isnan(ref))):
-            fields[name] = value
-            continue
-        fields[name] = np.repeat(stacked, repeat, axis=-1) if repeat > 1 else stacked
-    if len(params_list) > 1 or repeat > 1:
-        fields["payload_mass"] = np.asarray(fields["payload_mass"], float)
-    return ArmParams(**fields)
-
-
-def _take(params, index, like):
-    """``params`` (from ``stack_params``) restricted to the batch entries ``index``: the arrays
-    with a batch axis (one more axis than in ``like``, a one-arm ``ArmParams``) are indexed,
-    the shared ones kept."""
-    out = {}
-    for f in dataclasses.fields(ArmParams):
-        value = getattr(params, f.name)
-        per_config = np.ndim(value) > np.ndim(getattr(like, f.name))
-        out[f.name] = value[..., index] if per_config else value
-    return ArmParams(**out)
-
-
-def _lift(x, ndim, count):
-    """A parameter array with the batch axis, broadcast to ``count`` configurations."""
-    x = np.asarray(x)
-    return np.broadcast_to(x[..., None] if x.ndim == ndim else x, x.shape[:ndim] + (count,))
 
 
 def variant_params(spec, values, payload_kg=None):
@@ -277,13 +231,18 @@ def _solve_run(run, pts, options, group_size, previous):
             classes[key] = len(reps)
             reps.append(item)
         owner.append(classes[key])
-    q_parts, s_parts = [], []
+    q_parts, s_parts, u_parts = [], [], []
     for lo in range(0, len(reps), group_size):
-        q, status, previous = _solve_group(reps[lo:lo + group_size], pts, options, previous)
+        q, status, previous, unsettled = _solve_group(reps[lo:lo + group_size], pts, options,
+                                                      previous)
         q_parts.append(q)
         s_parts.append(status)
+        u_parts.append(np.zeros(status.shape, dtype=bool) if unsettled is None else unsettled)
+    q, status, unsettled = (np.concatenate(x) for x in (q_parts, s_parts, u_parts))
+    if np.any(unsettled):      # exactly the per-variant solver there, for all variants at once
+        _solve_exact([p for _, _, p in reps], pts, q, status, unsettled, options)
     owner = np.asarray(owner)
-    return np.concatenate(q_parts)[owner], np.concatenate(s_parts)[owner], previous
+    return q[owner], status[owner], previous
 
 
 def _solve_one(vspec, params, pts, posture, table_size, initial_q=None, tolerance_m=1e-9,
@@ -296,9 +255,11 @@ def _solve_one(vspec, params, pts, posture, table_size, initial_q=None, toleranc
 
 def _solve_group(group, pts, options, previous):
     """IK of a group of neighbouring variants (distinct kinematics): (q (V, P, n), status
-    (V, P), the anchor's solution for the next group)."""
+    (V, P), the anchor's solution for the next group, and the (V, P) mask of the points the
+    continuation left unsettled, to be solved again by ``_solve_exact``)."""
     posture, table_size = options["posture"], options["table_size"]
     tol, iters, exact = options["tol"], options["iters"], options["exact"]
+    unsettled = None
     params_list = [p for _, _, p in group]
     n, k = params_list[0].n, params_list[0].task_axes.shape[0]
     count = pts.shape[0]
@@ -332,29 +293,55 @@ def _solve_group(group, pts, options, previous):
         good &= accepts(posture, pval)
         good = good.reshape(v_count, count)
         q[:] = np.moveaxis(q_c.reshape(n, v_count, count), 0, -1)
-        for v, (_, vspec, params) in enumerate(group):
-            bad = ~good[v]
-            # beyond the reach bound: out of reach whatever the seeds (as solve_positions)
-            o1 = _kinematics.forward(params, np.zeros((n, 1))).origin[0, :, 0]
-            far = np.linalg.norm(pts - params.mount_position - o1, axis=1) > _reach_bound(params)
-            q[v, bad & far] = np.nan
-            status[v, bad & far] = OUT_OF_REACH
-            bad &= ~far
-            if np.any(bad) and not exact:         # continuation only: count as not solved
-                q[v, bad] = np.nan
-                status[v, bad] = NOT_CONVERGED
-            elif np.any(bad):                     # exactly the per-variant solver there
-                sol = _solve_one(vspec, params, pts[bad], posture, table_size,
-                                 tolerance_m=tol, max_iterations=iters)
-                q[v, bad] = sol.q
-                status[v, bad] = sol.status
+        # beyond the reach bound: out of reach whatever the seeds (as solve_positions)
+        per_variant = stack_params(params_list)
+        o1 = _lift(_kinematics.forward(per_variant, np.zeros((n, v_count))).origin[0], 1, v_count)
+        mount = _lift(per_variant.mount_position, 1, v_count)
+        bound = np.array([_reach_bound(p) for p in params_list])
+        far = np.sqrt(np.sum((pts[None] - mount.T[:, None] - o1.T[:, None]) ** 2, axis=2))
+        far = far > bound[:, None]
+        q[~good & far] = np.nan
+        status[~good & far] = OUT_OF_REACH
+        bad = ~good & ~far
+        q[bad] = np.nan
+        status[bad] = NOT_CONVERGED       # continuation only; ``exact`` solves them again
+        if exact:
+            unsettled = bad
     else:
         for v, (_, vspec, params) in enumerate(group):
             sol = _solve_one(vspec, params, pts, posture, table_size, previous, tol, iters)
             q[v], status[v] = sol.q, sol.status
             if n != 2 or k != 2:
                 previous = np.where(np.isin(sol.status, SOLVED)[:, None], sol.q, np.nan)
-    return q, status, previous
+    return q, status, previous, unsettled
+
+
+#: unsettled points per call of the stacked solver (bounds the memory of one pass)
+_EXACT_POINTS = 20000
+
+
+def _solve_exact(params_list, pts, q, status, unsettled, options):
+    """Solve the unsettled points (V, P) of all variants again, as ``solve_positions`` of
+    each variant on them does, in a few passes of the stacked solver (``_ik_stacked``);
+    q (V, P, n) and status (V, P) are updated in place."""
+    counts = unsettled.sum(axis=1)
+    lo = 0
+    while lo < len(params_list):
+        hi, total = lo, 0
+        while hi < len(params_list) and (hi == lo or total + counts[hi] <= _EXACT_POINTS):
+            total += counts[hi]
+            hi += 1
+        rows = [v for v in range(lo, hi) if counts[v]]
+        if rows:
+            q_s, s_s = solve_positions_stacked(
+                [params_list[v] for v in rows], [pts[unsettled[v]] for v in rows],
+                posture=options["posture"], tolerance_m=options["tol"],
+                max_iterations=options["iters"], table_size=options["table_size"])
+            sel = unsettled[rows]
+            block_q, block_s = q[rows], status[rows]
+            block_q[sel], block_s[sel] = q_s, s_s
+            q[rows], status[rows] = block_q, block_s
+        lo = hi
 
 
 def _score_chunk(items, q, status, region, accel, stiffness):

@@ -176,14 +176,16 @@ class SeedPool:
 
 
 def dls_stacked(params, like, q, targets, *, tolerance, max_iterations, damping, low, high,
-                clip=True):
+                clip=True, shrink_below=1.0):
     """``dls`` for one arm per configuration (non-redundant arms, no tool angle).
 
     ``params`` holds one arm per configuration (arrays with a trailing batch axis, see
     ``studies._stack``; ``like`` one arm's ``ArmParams``, to tell them apart); ``damping``
     (N,) [m], ``low``/``high`` (n, N) [rad] per configuration. Every configuration takes
     the same steps as ``dls`` of its own arm would (the steps of one configuration do not
-    depend on the others); the batch shrinks to the unsettled ones as they settle.
+    depend on the others); the batch shrinks to the unsettled ones once fewer than
+    ``shrink_below`` of them (a fraction) are unsettled (settled ones are held meanwhile:
+    for warm starts, where most settle at once, ``0.5`` avoids re-slicing every step).
     Returns q (n, N) and the residual (N,) [m].
     """
     a = params.task_axes
@@ -204,16 +206,20 @@ def dls_stacked(params, like, q, targets, *, tolerance, max_iterations, damping,
             break
         jac = np.einsum("ki,inN->knN", a, _kinematics.jacobian(frames)[:3])
         keep = ~done
-        if not np.all(keep):                    # drop the settled configurations
+        hold = None
+        if not np.all(keep) and keep.mean() < shrink_below:     # drop the settled ones
             active, qa, err, jac = active[keep], qa[:, keep], err[:, keep], jac[:, :, keep]
             sub = take_params(sub, keep, like)
             sub_targets, sub_low, sub_high = sub_targets[:, keep], sub_low[:, keep], sub_high[:, keep]
             sub_damp, norm = sub_damp[keep], norm[keep]
+        elif not np.all(keep):
+            hold = done                                          # step them, keep them still
         jjt = matmul(jac, transpose(jac))
         lam = np.minimum(sub_damp, 10.0 * norm)
         jjt = jjt + (lam * lam) * np.eye(jjt.shape[0])[:, :, None]
         step = np.sum(jac * solve_small(jjt, err)[:, None, :], axis=0)
         step_norm = np.sqrt(np.sum(step * step, axis=0))
         step = step * np.minimum(1.0, 0.5 / np.maximum(step_norm, 1e-300))[None]  # <= 0.5 rad
-        q[:, active] = np.clip(qa + step, sub_low, sub_high) if clip else qa + step
+        moved = np.clip(qa + step, sub_low, sub_high) if clip else qa + step
+        q[:, active] = moved if hold is None else np.where(hold, qa, moved)
     return q, residual

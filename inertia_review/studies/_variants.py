@@ -31,7 +31,6 @@ the neighbour's solution as ``initial_q`` otherwise); the metrics are still batc
 import numpy as np
 
 from ..core import _kinematics, _metrics, _stiffness
-from ..core._smallmat import matmul, transpose
 from ..model._arm import Arm
 from ..model._design import normalise_design
 from ..model._errors import DesignError
@@ -41,7 +40,7 @@ from ..model._regions import Task
 from ._ik import NOT_CONVERGED, OUT_OF_REACH, solve_positions
 from ._ik_stacked import solve_positions_stacked
 from ._ik_status import SOLVED
-from ._ik_numeric import reach_bound as _reach_bound, solve_small as _solve_small
+from ._ik_numeric import dls_stacked, reach_bound as _reach_bound
 from ._maps import _stiffness_values
 from ._posture import PostureRule, accepts, posture_rule, posture_value
 from ._scores import scores_from_arrays
@@ -77,36 +76,10 @@ def _continue(params, q, targets, *, tolerance, max_iterations, like):
     lengths = (np.sqrt(np.sum(params.joint_position[1:] ** 2, axis=1)).sum(axis=0)
                + np.sqrt(np.sum(params.tool_position ** 2, axis=0)))
     damping = np.broadcast_to(1e-3 * lengths, (count,))
-    q = q.copy()
-    residual = np.full(q.shape[1], np.inf)
-    active = np.arange(q.shape[1])
-    sub, sub_targets, sub_low, sub_high, sub_damp = params, targets, low, high, damping
-    for iteration in range(max_iterations):
-        qa = q[:, active]
-        frames = _kinematics.forward(sub, qa)
-        err = a @ (sub_targets - frames.tool)
-        norm = np.sqrt(np.sum(err * err, axis=0))
-        # stop points that converged, and points whose error no longer shrinks (the rule of
-        # solve_positions: a local minimum of the distance, out of reach from this start)
-        stalled = (norm > 0.9 * residual[active]) & (norm > 1e3 * tolerance) & (iteration > 5)
-        residual[active] = np.minimum(norm, residual[active])
-        keep = (norm > tolerance) & ~stalled
-        if not np.any(keep):
-            break
-        jac = np.einsum("ki,inN->knN", a, _kinematics.jacobian(frames)[:3])
-        lam = np.minimum(sub_damp, 10.0 * norm)
-        jjt = matmul(jac, transpose(jac)) + (lam * lam) * np.eye(a.shape[0])[:, :, None]
-        step = np.sum(jac * _solve_small(jjt, err)[:, None, :], axis=0)
-        step_norm = np.sqrt(np.sum(step * step, axis=0))
-        step = step * np.minimum(1.0, 0.5 / np.maximum(step_norm, 1e-300))[None]
-        qa = np.clip(qa + step, sub_low, sub_high)
-        q[:, active] = np.where(keep, qa, q[:, active])
-        if keep.mean() < 0.5:                      # shrink the batch to the unsettled part
-            active = active[keep]
-            sub = _take(sub, keep, like)
-            sub_targets, sub_low, sub_high = sub_targets[:, keep], sub_low[:, keep], sub_high[:, keep]
-            sub_damp = sub_damp[keep]
-    return q, residual
+    # the same damped least-squares steps and stopping rule as solve_positions, per arm
+    return dls_stacked(params, like, q, targets, tolerance=tolerance,
+                       max_iterations=max_iterations, damping=damping, low=low, high=high,
+                       shrink_below=0.5)
 
 
 def _region_options(region, accel_mps2, payload_kg):

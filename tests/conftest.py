@@ -1,6 +1,23 @@
-"""Fixtures shared by the widget test modules (headless pyplot, the widgets layer, leak check)."""
+"""Fixtures shared by test modules: headless pyplot, the widgets layer, the figure-leak
+check and the demo designs from their files in designs/."""
+
+from pathlib import Path
 
 import pytest
+
+import inertia_review as ir
+
+DESIGNS = Path(__file__).resolve().parents[1] / "designs"
+
+
+@pytest.fixture(scope="module")
+def kestrel_a():
+    return ir.load_design(DESIGNS / "kestrel_a.toml")
+
+
+@pytest.fixture(scope="module")
+def kestrel_b():
+    return ir.load_design(DESIGNS / "kestrel_b.toml")
 
 
 @pytest.fixture(scope="module")

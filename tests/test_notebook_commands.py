@@ -43,11 +43,6 @@ DECIMALS = {"accel_capability_min": 3, "moving_mass_kg": 4, "f1_lowest_hz": 2,
 
 
 @pytest.fixture(scope="module")
-def kestrel_a():
-    return ir.load_design(DESIGNS / "kestrel_a.toml")
-
-
-@pytest.fixture(scope="module")
 def coarse_task(kestrel_a):
     t = kestrel_a.task
     r = t.region

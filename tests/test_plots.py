@@ -44,18 +44,7 @@ G_N = 9.80665  # standard gravity, 3rd CGPM (1901) [C], references.md item 7
 # fixtures
 # --------------------------------------------------------------------------
 @pytest.fixture(scope="module")
-def plt():
-    """pyplot on the Agg backend (headless)."""
-    import matplotlib
-
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as pyplot
-
-    return pyplot
-
-
-@pytest.fixture(scope="module")
-def irp(plt):
+def irp(plt):                     # plt: headless pyplot from tests/conftest.py
     import inertia_review.plots as plots
 
     return plots

@@ -39,16 +39,6 @@ def _cleanup(close_figures):
 
 
 @pytest.fixture(scope="module")
-def kestrel_a():
-    return ir.load_design(DESIGNS / "kestrel_a.toml")
-
-
-@pytest.fixture(scope="module")
-def kestrel_b():
-    return ir.load_design(DESIGNS / "kestrel_b.toml")
-
-
-@pytest.fixture(scope="module")
 def task(kestrel_a):
     """The demo task, its region resampled coarsely (40 mm)."""
     t = kestrel_a.task

@@ -46,16 +46,6 @@ def _leak_check(no_figure_leak):
 
 
 @pytest.fixture(scope="module")
-def kestrel_a():
-    return ir.load_design(DESIGNS / "kestrel_a.toml")
-
-
-@pytest.fixture(scope="module")
-def kestrel_b():
-    return ir.load_design(DESIGNS / "kestrel_b.toml")
-
-
-@pytest.fixture(scope="module")
 def kestrel_c():
     return ir.load_design(DESIGNS / "kestrel_c.toml")
 
